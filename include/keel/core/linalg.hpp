@@ -1,0 +1,138 @@
+#pragma once
+/// \file
+/// \brief Small fixed-size linear-algebra helpers used by the kernels (namespace keel::detail; not for direct use).
+///
+/// Written here rather than taken from Eigen's decompositions where Eigen would allocate or pull in
+/// function-local statics on bare-metal targets (matrix right-hand sides of LLT::solve), and so that every
+/// failure is a returned value with a threshold stated in one place.
+
+#include <cmath>
+#include <cstdint>
+#include <cstring>
+#include <limits>
+#include <type_traits>
+
+#include <Eigen/Core>
+
+namespace keel::detail {
+
+/// Compile-time rows and columns as int (Eigen's are distinct enum types; comparing them directly warns).
+template <typename Derived>
+inline constexpr int rows_v = static_cast<int>(Derived::RowsAtCompileTime);
+template <typename Derived>
+inline constexpr int cols_v = static_cast<int>(Derived::ColsAtCompileTime);
+
+template <typename Derived>
+constexpr bool is_fixed_size() {
+  return rows_v<Derived> != Eigen::Dynamic && cols_v<Derived> != Eigen::Dynamic;
+}
+
+
+/// \brief True when x is neither NaN nor ±Inf. Tests the exponent bits, so it stays correct under
+/// -ffast-math / -ffinite-math-only, where std::isfinite may be folded to `true`.
+template <typename T>
+constexpr bool is_finite(T x) noexcept {
+  static_assert(std::is_same_v<T, float> || std::is_same_v<T, double>, "keel: scalar must be float or double");
+  if constexpr (std::is_same_v<T, float>) {
+    std::uint32_t bits = 0;
+    std::memcpy(&bits, &x, sizeof bits);
+    return (bits & 0x7f800000u) != 0x7f800000u;
+  } else {
+    std::uint64_t bits = 0;
+    std::memcpy(&bits, &x, sizeof bits);
+    return (bits & 0x7ff0000000000000ull) != 0x7ff0000000000000ull;
+  }
+}
+
+template <typename Derived>
+bool all_finite(const Eigen::MatrixBase<Derived>& a) noexcept {
+  for (Eigen::Index j = 0; j < a.cols(); ++j)
+    for (Eigen::Index i = 0; i < a.rows(); ++i)
+      if (!is_finite(a.coeff(i, j))) return false;
+  return true;
+}
+
+/// \brief True when every diagonal entry is >= 0 (a variance). NaN fails.
+template <typename Derived>
+bool diagonal_nonnegative(const Eigen::MatrixBase<Derived>& a) noexcept {
+  using T = typename Derived::Scalar;
+  for (Eigen::Index i = 0; i < a.rows(); ++i)
+    if (!(a.coeff(i, i) >= T(0))) return false;
+  return true;
+}
+
+/// \brief A := (A + Aᵀ)/2 in place.
+template <typename T, int N>
+void symmetrize(Eigen::Matrix<T, N, N>& a) noexcept {
+  for (int j = 0; j < N; ++j)
+    for (int i = j + 1; i < N; ++i) {
+      const T m = T(0.5) * (a(i, j) + a(j, i));
+      a(i, j) = m;
+      a(j, i) = m;
+    }
+}
+
+/// \brief Relative pivot floor of the Cholesky factorization: a pivot \f$ d_j \le n\,\varepsilon\,a_{jj} \f$
+/// is numerically zero (the Schur complement has cancelled to rounding level of the original diagonal).
+template <typename T, int N>
+constexpr T pivot_floor_factor() noexcept {
+  return T(N) * std::numeric_limits<T>::epsilon();
+}
+
+/// \brief In-place lower Cholesky factorization A = L Lᵀ (reads the lower triangle, zeroes the upper).
+/// \returns false when A is not numerically positive-definite (pivot at or below the floor above, or non-finite).
+template <typename T, int N>
+bool cholesky_in_place(Eigen::Matrix<T, N, N>& a) noexcept {
+  for (int j = 0; j < N; ++j) {
+    const T ajj = a(j, j);
+    T d = ajj;
+    for (int k = 0; k < j; ++k) d -= a(j, k) * a(j, k);
+    if (!(d > pivot_floor_factor<T, N>() * ajj) || !is_finite(d)) return false;
+    const T ljj = std::sqrt(d);
+    a(j, j) = ljj;
+    const T inv = T(1) / ljj;
+    for (int i = j + 1; i < N; ++i) {
+      T s = a(i, j);
+      for (int k = 0; k < j; ++k) s -= a(i, k) * a(j, k);
+      a(i, j) = s * inv;
+    }
+    for (int i = 0; i < j; ++i) a(i, j) = T(0);
+  }
+  return true;
+}
+
+/// \brief Solves L v = b in place (L lower-triangular with nonzero diagonal).
+template <typename T, int N>
+void forward_substitute(const Eigen::Matrix<T, N, N>& l, Eigen::Matrix<T, N, 1>& v) noexcept {
+  for (int i = 0; i < N; ++i) {
+    T s = v(i);
+    for (int k = 0; k < i; ++k) s -= l(i, k) * v(k);
+    v(i) = s / l(i, i);
+  }
+}
+
+/// \brief Solves Lᵀ v = b in place.
+template <typename T, int N>
+void backward_substitute_transposed(const Eigen::Matrix<T, N, N>& l, Eigen::Matrix<T, N, 1>& v) noexcept {
+  for (int i = N - 1; i >= 0; --i) {
+    T s = v(i);
+    for (int k = i + 1; k < N; ++k) s -= l(k, i) * v(k);
+    v(i) = s / l(i, i);
+  }
+}
+
+/// \brief X = B S⁻¹ given the Cholesky factor L of S (S = L Lᵀ), one row of B at a time: no matrix
+/// right-hand side, so nothing of Eigen's blocked solver (which allocates on some targets) is pulled in.
+template <typename T, int R, int M>
+void right_solve_spd(const Eigen::Matrix<T, M, M>& l, const Eigen::Matrix<T, R, M>& b,
+                     Eigen::Matrix<T, R, M>& x) noexcept {
+  Eigen::Matrix<T, M, 1> v;
+  for (int i = 0; i < R; ++i) {
+    v = b.row(i).transpose();
+    forward_substitute(l, v);
+    backward_substitute_transposed(l, v);
+    x.row(i) = v.transpose();
+  }
+}
+
+}  // namespace keel::detail

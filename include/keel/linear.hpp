@@ -1,0 +1,338 @@
+#pragma once
+/// \file
+/// \brief Linear Kalman filter kernels on keel::Gaussian: predict, correct (Joseph or standard form),
+/// correct with a caller-supplied gain, and sequential scalar correction.
+///
+/// Every kernel is noexcept and heap-free, works on a copy and writes the estimate only when the whole
+/// update succeeded: on any non-ok Status the estimate is bit-for-bit unchanged.
+
+#include <type_traits>
+
+#include <Eigen/Core>
+
+#include "core/gaussian.hpp"
+#include "core/innovation.hpp"
+#include "core/linalg.hpp"
+#include "core/status.hpp"
+#include "gate.hpp"
+
+namespace keel {
+
+namespace detail {
+
+/// \brief Common validation of a correction's inputs; returns ok or the status to report.
+template <typename T, int N, typename H, typename R, typename Z>
+Status check_correction_inputs(const Gaussian<T, N>& est, const H& h, const R& r, const Z& z) noexcept {
+  if (!all_finite(est.mean) || !all_finite(est.cov) || !all_finite(h) || !all_finite(r) || !all_finite(z))
+    return Status::non_finite;
+  if (!diagonal_nonnegative(est.cov) || !diagonal_nonnegative(r)) return Status::negative_variance;
+  return Status::ok;
+}
+
+/// \brief Joseph-form covariance after a gain K, evaluated with rank-M corrections instead of forming I − KH:
+/// \f$ C = P - K (HP),\; P^+ = C - (C H^T) K^T + K R K^T \f$, which equals \f$ (I-KH)P(I-KH)^T + KRK^T \f$
+/// term by term. Cost O(N²M + NM²) instead of O(N³). `pht` is P Hᵀ (so HP = pht ᵀ for symmetric P).
+template <typename T, int N, int M>
+Eigen::Matrix<T, N, N> joseph_covariance(const Eigen::Matrix<T, N, N>& p, const Eigen::Matrix<T, M, N>& h,
+                                         const Eigen::Matrix<T, M, M>& r, const Eigen::Matrix<T, N, M>& pht,
+                                         const Eigen::Matrix<T, N, M>& k) noexcept {
+  Eigen::Matrix<T, N, N> c = p;
+  c.noalias() -= k * pht.transpose();
+  Eigen::Matrix<T, N, M> cht;
+  cht.noalias() = c * h.transpose();
+  Eigen::Matrix<T, N, M> kr;
+  kr.noalias() = k * r;
+  c.noalias() -= cht * k.transpose();
+  c.noalias() += kr * k.transpose();
+  return c;
+}
+
+/// \brief Shared tail of the vector corrections: given the gain, form the new mean and covariance,
+/// validate them, and commit to `est` only on success.
+template <typename T, int N, int M, typename Form>
+Status apply_gain(Gaussian<T, N>& est, const Eigen::Matrix<T, M, N>& h, const Eigen::Matrix<T, M, M>& r,
+                  const Eigen::Matrix<T, M, 1>& y, const Eigen::Matrix<T, N, M>& pht,
+                  const Eigen::Matrix<T, N, M>& k, Form) noexcept {
+  Eigen::Matrix<T, N, 1> x = est.mean;
+  x.noalias() += k * y;
+  Eigen::Matrix<T, N, N> p;
+  if constexpr (std::is_same_v<Form, standard_form_t>) {
+    p = est.cov;
+    p.noalias() -= k * pht.transpose();
+  } else {
+    p = joseph_covariance(est.cov, h, r, pht, k);
+  }
+  symmetrize(p);
+  if (!all_finite(x) || !all_finite(p)) return Status::non_finite;
+  if (!diagonal_nonnegative(p)) return Status::not_positive_definite;
+  est.mean = x;
+  est.cov = p;
+  return Status::ok;
+}
+
+/// \brief The innovation of a linear correction: validates the inputs, forms y = z − Hx, PHᵀ, S = HPHᵀ + R and
+/// its Cholesky factor L, the NIS, and applies the gate. Status ok means "go on and apply a gain".
+template <typename T, int N, int M>
+Innovation<T, M> innovate(const Gaussian<T, N>& est, const Eigen::Matrix<T, M, N>& h,
+                          const Eigen::Matrix<T, M, M>& r, const Eigen::Matrix<T, M, 1>& z, const Gate<T>& gate,
+                          Eigen::Matrix<T, N, M>& pht, Eigen::Matrix<T, M, M>& l) noexcept {
+  Innovation<T, M> inn;
+  inn.status = check_correction_inputs(est, h, r, z);
+  if (inn.status != Status::ok) return inn;
+  inn.residual = z;
+  inn.residual.noalias() -= h * est.mean;
+  pht.noalias() = est.cov * h.transpose();
+  inn.cov = r;
+  inn.cov.noalias() += h * pht;
+  symmetrize(inn.cov);
+  l = inn.cov;
+  if (!cholesky_in_place(l)) {
+    inn.status = all_finite(inn.cov) ? Status::not_positive_definite : Status::non_finite;
+    return inn;
+  }
+  Eigen::Matrix<T, M, 1> w = inn.residual;
+  forward_substitute(l, w);
+  inn.nis = w.squaredNorm();
+  if (!is_finite(inn.nis)) {
+    inn.status = Status::non_finite;
+  } else if (!gate.accepts(inn.nis)) {
+    inn.status = Status::gated;
+  }
+  return inn;
+}
+
+template <typename T, int N, typename DH, typename DR, typename DZ>
+constexpr void check_correct_dims() {
+  static_assert(is_fixed_size<DH>() && is_fixed_size<DR>() && is_fixed_size<DZ>(),
+                "keel::correct: H, R and z must be fixed-size Eigen matrices");
+  static_assert(detail::cols_v<DZ> == 1, "keel::correct: z must be a column vector");
+  static_assert(detail::rows_v<DH> == detail::rows_v<DZ>,
+                "keel::correct: H must have as many rows as z has entries");
+  static_assert(detail::cols_v<DH> == N, "keel::correct: H must have N columns, N the state dimension");
+  static_assert(detail::rows_v<DR> == detail::rows_v<DZ> && detail::cols_v<DR> == detail::rows_v<DZ>,
+                "keel::correct: R must be M×M, M the number of entries of z");
+  static_assert(std::is_same_v<typename DH::Scalar, T> && std::is_same_v<typename DR::Scalar, T> &&
+                    std::is_same_v<typename DZ::Scalar, T>,
+                "keel::correct: H, R and z must have the estimate's scalar type");
+}
+
+}  // namespace detail
+
+/// \brief Time update \f$ x^- = F x,\; P^- = F P F^T + Q \f$ (Kalman, "A New Approach to Linear Filtering
+/// and Prediction Problems", 1960).
+/// \returns ok, non_finite (an input or the result is not finite) or negative_variance (Q or P has a negative
+/// diagonal entry); on any non-ok status `est` is unchanged.
+template <typename T, int N, typename DF, typename DQ>
+[[nodiscard]] Status predict(Gaussian<T, N>& est, const Eigen::MatrixBase<DF>& f,
+                             const Eigen::MatrixBase<DQ>& q) noexcept {
+  static_assert(detail::rows_v<DF> == N && detail::cols_v<DF> == N,
+                "keel::predict: F must be N×N, N the state dimension");
+  static_assert(detail::rows_v<DQ> == N && detail::cols_v<DQ> == N,
+                "keel::predict: Q must be N×N, N the state dimension");
+  static_assert(std::is_same_v<typename DF::Scalar, T> && std::is_same_v<typename DQ::Scalar, T>,
+                "keel::predict: F and Q must have the estimate's scalar type");
+  const auto& fm = f.eval();
+  const auto& qm = q.eval();
+  if (!detail::all_finite(est.mean) || !detail::all_finite(est.cov) || !detail::all_finite(fm) ||
+      !detail::all_finite(qm))
+    return Status::non_finite;
+  if (!detail::diagonal_nonnegative(est.cov) || !detail::diagonal_nonnegative(qm)) return Status::negative_variance;
+  Eigen::Matrix<T, N, 1> x;
+  x.noalias() = fm * est.mean;
+  Eigen::Matrix<T, N, N> fp;
+  fp.noalias() = fm * est.cov;
+  Eigen::Matrix<T, N, N> p = qm;
+  p.noalias() += fp * fm.transpose();
+  detail::symmetrize(p);
+  if (!detail::all_finite(x) || !detail::all_finite(p)) return Status::non_finite;
+  est.mean = x;
+  est.cov = p;
+  return Status::ok;
+}
+
+/// \brief Time update with a control input: \f$ x^- = F x + B u,\; P^- = F P F^T + Q \f$.
+/// \returns as predict(est, F, Q); also non_finite when B or u is not finite.
+template <typename T, int N, typename DF, typename DB, typename DU, typename DQ>
+[[nodiscard]] Status predict(Gaussian<T, N>& est, const Eigen::MatrixBase<DF>& f, const Eigen::MatrixBase<DB>& b,
+                             const Eigen::MatrixBase<DU>& u, const Eigen::MatrixBase<DQ>& q) noexcept {
+  static_assert(detail::cols_v<DU> == 1 && detail::rows_v<DU> != Eigen::Dynamic,
+                "keel::predict: u must be a fixed-size column vector");
+  static_assert(detail::rows_v<DB> == N, "keel::predict: B must have N rows, N the state dimension");
+  static_assert(detail::cols_v<DB> == detail::rows_v<DU>,
+                "keel::predict: B must have as many columns as u has entries");
+  static_assert(std::is_same_v<typename DB::Scalar, T> && std::is_same_v<typename DU::Scalar, T>,
+                "keel::predict: B and u must have the estimate's scalar type");
+  const auto& bm = b.eval();
+  const auto& um = u.eval();
+  if (!detail::all_finite(bm) || !detail::all_finite(um)) return Status::non_finite;
+  Gaussian<T, N> next = est;
+  const Status s = predict(next, f, q);
+  if (s != Status::ok) return s;
+  next.mean.noalias() += bm * um;
+  if (!detail::all_finite(next.mean)) return Status::non_finite;
+  est = next;
+  return Status::ok;
+}
+
+/// \brief Measurement update (Kalman, 1960) with the innovation covariance factored by Cholesky, never inverted:
+/// \f$ y = z - Hx,\; S = HPH^T + R = LL^T,\; K = PH^T S^{-1},\; x^+ = x + Ky \f$, and by default the
+/// Joseph form \f$ P^+ = (I-KH)P(I-KH)^T + KRK^T \f$ (Bucy & Joseph, "Filtering for Stochastic Processes with
+/// Applications to Guidance", 1968), which stays symmetric positive semi-definite for any gain;
+/// with `standard_form`, \f$ P^+ = P - K H P \f$. NIS \f$ = y^T S^{-1} y = \|L^{-1}y\|^2 \f$.
+/// \param gate measurements whose NIS exceeds the gate's threshold are rejected (Status::gated).
+/// \returns Innovation with status ok, non_finite, negative_variance (R or P), not_positive_definite
+/// (S not factorable, or P⁺ lost its positive diagonal) or gated; on any non-ok status `est` is unchanged.
+template <typename T, int N, typename DH, typename DR, typename DZ, typename Form = joseph_form_t>
+[[nodiscard]] Innovation<T, detail::rows_v<DZ>> correct(Gaussian<T, N>& est, const Eigen::MatrixBase<DH>& h,
+                                                           const Eigen::MatrixBase<DR>& r,
+                                                           const Eigen::MatrixBase<DZ>& z, Form form = Form{},
+                                                           const Gate<T>& gate = Gate<T>{}) noexcept {
+  static_assert(std::is_same_v<Form, joseph_form_t> || std::is_same_v<Form, standard_form_t>,
+                "keel::correct: the form must be keel::joseph_form or keel::standard_form");
+  detail::check_correct_dims<T, N, DH, DR, DZ>();
+  constexpr int M = detail::rows_v<DZ>;
+  const Eigen::Matrix<T, M, N> hm = h;
+  const Eigen::Matrix<T, M, M> rm = r;
+  Eigen::Matrix<T, N, M> pht;
+  Eigen::Matrix<T, M, M> l;
+  Innovation<T, M> inn = detail::innovate(est, hm, rm, z.eval(), gate, pht, l);
+  if (inn.status != Status::ok) return inn;
+  Eigen::Matrix<T, N, M> k;
+  detail::right_solve_spd(l, pht, k);
+  inn.status = detail::apply_gain(est, hm, rm, inn.residual, pht, k, form);
+  return inn;
+}
+
+/// \brief Gated measurement update in Joseph form: `correct(est, H, R, z, joseph_form, gate)`.
+template <typename T, int N, typename DH, typename DR, typename DZ>
+[[nodiscard]] Innovation<T, detail::rows_v<DZ>> correct(Gaussian<T, N>& est, const Eigen::MatrixBase<DH>& h,
+                                                           const Eigen::MatrixBase<DR>& r,
+                                                           const Eigen::MatrixBase<DZ>& z,
+                                                           const Gate<T>& gate) noexcept {
+  return correct(est, h, r, z, joseph_form, gate);
+}
+
+/// \brief Measurement update with a caller-supplied gain K (a precomputed steady-state gain, a
+/// deliberately detuned or consider gain), always in Joseph form, which is the covariance of the
+/// estimator \f$ x^+ = x + K(z - Hx) \f$ for any K (Bucy & Joseph, 1968).
+/// The innovation (residual, S, NIS) is reported and gated as in correct().
+/// \returns as correct(); also non_finite when K is not finite.
+template <typename T, int N, typename DH, typename DR, typename DZ, typename DK>
+[[nodiscard]] Innovation<T, detail::rows_v<DZ>> correct_with_gain(
+    Gaussian<T, N>& est, const Eigen::MatrixBase<DH>& h, const Eigen::MatrixBase<DR>& r,
+    const Eigen::MatrixBase<DZ>& z, const Eigen::MatrixBase<DK>& gain, const Gate<T>& gate = Gate<T>{}) noexcept {
+  detail::check_correct_dims<T, N, DH, DR, DZ>();
+  constexpr int M = detail::rows_v<DZ>;
+  static_assert(detail::rows_v<DK> == N && detail::cols_v<DK> == M,
+                "keel::correct_with_gain: K must be N×M (N states, M measurement entries)");
+  static_assert(std::is_same_v<typename DK::Scalar, T>, "keel::correct_with_gain: K must have the estimate's scalar type");
+  const Eigen::Matrix<T, M, N> hm = h;
+  const Eigen::Matrix<T, M, M> rm = r;
+  const Eigen::Matrix<T, N, M> k = gain;
+  if (!detail::all_finite(k)) {
+    Innovation<T, M> bad;
+    bad.status = Status::non_finite;
+    return bad;
+  }
+  Eigen::Matrix<T, N, M> pht;
+  Eigen::Matrix<T, M, M> l;
+  Innovation<T, M> inn = detail::innovate(est, hm, rm, z.eval(), gate, pht, l);
+  if (inn.status != Status::ok) return inn;
+  inn.status = detail::apply_gain(est, hm, rm, inn.residual, pht, k, joseph_form);
+  return inn;
+}
+
+/// \brief Sequential scalar measurement update for a diagonal R = diag(r): one scalar correction per row of H,
+/// no matrix factorization or inverse (the rows are processed in order; the result equals the vector update
+/// because the measurement noises are uncorrelated). For row i with \f$ h = H_i,\; b = P h^T \f$:
+/// \f$ s = h b + r_i,\; k = b / s,\; x \leftarrow x + k (z_i - h x) \f$ and the Joseph form in O(N²):
+/// \f$ C = P - k b^T,\; P \leftarrow C - (C h^T) k^T + r_i k k^T \f$.
+/// The reported NIS is \f$ \sum_i y_i^2 / s_i \f$, which equals \f$ y^T S^{-1} y \f$ of the joint update
+/// (the sequential innovations are the Cholesky-whitened joint innovation), so the gate means the same.
+/// The reported residual and covariance are those of the joint update, z − Hx and HPHᵀ + R, at the prior.
+/// \returns Innovation with status ok, non_finite, negative_variance (r or P), not_positive_definite (a scalar
+/// innovation variance at or below rounding level) or gated; on any non-ok status `est` is unchanged.
+template <typename T, int N, typename DH, typename DR, typename DZ>
+[[nodiscard]] Innovation<T, detail::rows_v<DZ>> correct_sequential(
+    Gaussian<T, N>& est, const Eigen::MatrixBase<DH>& h, const Eigen::MatrixBase<DR>& r_diag,
+    const Eigen::MatrixBase<DZ>& z, const Gate<T>& gate = Gate<T>{}) noexcept {
+  static_assert(detail::is_fixed_size<DH>() && detail::is_fixed_size<DR>() && detail::is_fixed_size<DZ>(),
+                "keel::correct_sequential: H, r_diag and z must be fixed-size Eigen matrices");
+  static_assert(detail::cols_v<DZ> == 1 && detail::cols_v<DR> == 1,
+                "keel::correct_sequential: z and r_diag must be column vectors");
+  static_assert(detail::rows_v<DH> == detail::rows_v<DZ>,
+                "keel::correct_sequential: H must have as many rows as z has entries");
+  static_assert(detail::rows_v<DR> == detail::rows_v<DZ>,
+                "keel::correct_sequential: r_diag must have as many entries as z (one variance per row)");
+  static_assert(detail::cols_v<DH> == N, "keel::correct_sequential: H must have N columns, N the state dimension");
+  static_assert(std::is_same_v<typename DH::Scalar, T> && std::is_same_v<typename DR::Scalar, T> &&
+                    std::is_same_v<typename DZ::Scalar, T>,
+                "keel::correct_sequential: H, r_diag and z must have the estimate's scalar type");
+  constexpr int M = detail::rows_v<DZ>;
+  const Eigen::Matrix<T, M, N> hm = h;
+  const Eigen::Matrix<T, M, 1> r = r_diag;
+  const Eigen::Matrix<T, M, 1> zm = z;
+  Innovation<T, M> inn;
+  if (!detail::all_finite(est.mean) || !detail::all_finite(est.cov) || !detail::all_finite(hm) ||
+      !detail::all_finite(r) || !detail::all_finite(zm)) {
+    inn.status = Status::non_finite;
+    return inn;
+  }
+  if (!detail::diagonal_nonnegative(est.cov) || !(r.minCoeff() >= T(0))) {
+    inn.status = Status::negative_variance;
+    return inn;
+  }
+  inn.residual = zm;
+  inn.residual.noalias() -= hm * est.mean;
+  {
+    Eigen::Matrix<T, N, M> pht;
+    pht.noalias() = est.cov * hm.transpose();
+    inn.cov.noalias() = hm * pht;
+    inn.cov.diagonal() += r;
+    detail::symmetrize(inn.cov);
+  }
+  Eigen::Matrix<T, N, 1> x = est.mean;
+  Eigen::Matrix<T, N, N> p = est.cov;
+  Eigen::Matrix<T, N, 1> b;
+  Eigen::Matrix<T, N, 1> k;
+  Eigen::Matrix<T, N, 1> c;
+  T nis = T(0);
+  for (int i = 0; i < M; ++i) {
+    const auto hi = hm.row(i);
+    b.noalias() = p * hi.transpose();
+    const T s = hi.dot(b) + r(i);
+    // Same relative floor as the Cholesky pivot of the joint S (the sequential s_i are its pivots).
+    if (!(s > detail::pivot_floor_factor<T, N>() * inn.cov(i, i)) || !detail::is_finite(s)) {
+      inn.status = detail::is_finite(s) ? Status::not_positive_definite : Status::non_finite;
+      return inn;
+    }
+    const T yi = zm(i) - hi.dot(x);
+    k = b / s;
+    nis += yi * yi / s;
+    x += k * yi;
+    p.noalias() -= k * b.transpose();
+    c.noalias() = p * hi.transpose();
+    p.noalias() -= c * k.transpose();
+    p.noalias() += (r(i) * k) * k.transpose();
+    detail::symmetrize(p);
+  }
+  inn.nis = nis;
+  if (!detail::is_finite(nis) || !detail::all_finite(x) || !detail::all_finite(p)) {
+    inn.status = Status::non_finite;
+    return inn;
+  }
+  if (!gate.accepts(nis)) {
+    inn.status = Status::gated;
+    return inn;
+  }
+  if (!detail::diagonal_nonnegative(p)) {
+    inn.status = Status::not_positive_definite;
+    return inn;
+  }
+  est.mean = x;
+  est.cov = p;
+  inn.status = Status::ok;
+  return inn;
+}
+
+}  // namespace keel

@@ -1,0 +1,104 @@
+// Heap-free proof (label `alloc`): every kernel runs with Eigen's run-time allocation guard armed and with a
+// counting global allocator (operator new and the C allocator), in float and double. Built with assertions on
+// (the guard is compiled out under NDEBUG); the counting hooks work in any build.
+#ifndef EIGEN_RUNTIME_NO_MALLOC
+#define EIGEN_RUNTIME_NO_MALLOC
+#endif
+#include <atomic>
+#include <cstdlib>
+#include <new>
+
+#include <doctest/doctest.h>
+
+#include <keel/keel.hpp>
+
+#include "support.hpp"
+
+namespace {
+std::atomic<long> g_allocations{0};
+}
+
+extern "C" {
+void* __libc_malloc(size_t);
+void* __libc_calloc(size_t, size_t);
+void* __libc_realloc(void*, size_t);
+void* malloc(size_t n) {
+  g_allocations.fetch_add(1, std::memory_order_relaxed);
+  return __libc_malloc(n);
+}
+void* calloc(size_t n, size_t m) {
+  g_allocations.fetch_add(1, std::memory_order_relaxed);
+  return __libc_calloc(n, m);
+}
+void* realloc(void* p, size_t n) {
+  g_allocations.fetch_add(1, std::memory_order_relaxed);
+  return __libc_realloc(p, n);
+}
+}
+void* operator new(size_t n) {
+  g_allocations.fetch_add(1, std::memory_order_relaxed);
+  if (void* p = __libc_malloc(n ? n : 1)) return p;
+  std::abort();
+}
+void* operator new[](size_t n) { return operator new(n); }
+void operator delete(void* p) noexcept { std::free(p); }
+void operator delete[](void* p) noexcept { std::free(p); }
+void operator delete(void* p, size_t) noexcept { std::free(p); }
+void operator delete[](void* p, size_t) noexcept { std::free(p); }
+
+namespace {
+/// Runs f with the guard armed and returns how many allocations happened inside.
+template <typename F>
+long allocations_in(F&& f) {
+  const long before = g_allocations.load();
+  Eigen::internal::set_is_malloc_allowed(false);
+  f();
+  Eigen::internal::set_is_malloc_allowed(true);
+  return g_allocations.load() - before;
+}
+}  // namespace
+
+TEST_CASE("the counting allocator sees allocations (the proof below can fail)") {
+  CHECK(allocations_in([] {
+          void* volatile p = std::malloc(16);
+          std::free(p);
+        }) == 1);
+  CHECK(allocations_in([] {
+          int* volatile p = new int(3);
+          delete p;
+        }) >= 1);
+}
+
+TEST_CASE_TEMPLATE("linear kernels and gating allocate nothing", T, float, double) {
+  std::mt19937 rng(1);
+  keel::Gaussian<T, 6> est;
+  est.cov = keel_test::random_spd<T, 6>(rng);
+  const Eigen::Matrix<T, 6, 6> f = Eigen::Matrix<T, 6, 6>::Identity() + keel_test::random_matrix<T, 6, 6>(rng, 0.1);
+  const Eigen::Matrix<T, 6, 6> q = keel_test::random_spd<T, 6>(rng, 0.01, 0.1);
+  const Eigen::Matrix<T, 6, 2> b = keel_test::random_matrix<T, 6, 2>(rng);
+  const Eigen::Matrix<T, 2, 1> u = keel_test::random_matrix<T, 2, 1>(rng);
+  const Eigen::Matrix<T, 3, 6> h = keel_test::random_matrix<T, 3, 6>(rng);
+  const Eigen::Matrix<T, 3, 3> r = keel_test::random_spd<T, 3>(rng);
+  const Eigen::Matrix<T, 3, 1> rd(T(0.5), T(1), T(2));
+  const Eigen::Matrix<T, 3, 1> z = keel_test::random_matrix<T, 3, 1>(rng);
+  const Eigen::Matrix<T, 6, 3> k = keel_test::random_matrix<T, 6, 3>(rng, 0.1);
+  keel::Status s[9] = {};
+  T nees = 0;
+  const long n = allocations_in([&] {
+    s[0] = keel::predict(est, f, q);
+    s[1] = keel::predict(est, f, b, u, q);
+    s[2] = keel::correct(est, h, r, z).status;
+    s[3] = keel::correct(est, h, r, z, keel::standard_form).status;
+    s[4] = keel::correct(est, h, r, z, keel::Gate<T>{T(1e6)}).status;
+    s[5] = keel::correct_with_gain(est, h, r, z, k).status;
+    s[6] = keel::correct_sequential(est, h, rd, z).status;
+    s[7] = keel::correct(est, h, r, z, keel::Gate<T>{T(0)}).status;  // gated path
+    s[8] = keel::correct(est, h, (-r).eval(), z).status;             // failure path
+    nees = keel::nees(est, k.col(0));
+  });
+  CHECK(n == 0);
+  for (int i = 0; i < 7; ++i) CHECK(s[i] == keel::Status::ok);
+  CHECK(s[7] == keel::Status::gated);
+  CHECK(s[8] == keel::Status::negative_variance);
+  CHECK(nees >= T(0));
+}
