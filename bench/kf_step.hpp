@@ -1,0 +1,137 @@
+#pragma once
+// kf_step benchmarks (predict + correct) for keel's linear kernels and the two baselines, registered under
+// `kf_step/<variant>/<scalar>/<n>x<m>`, plus the start-up check that the baselines compute what keel computes.
+#include <cmath>
+#include <cstdio>
+#include <string>
+
+#include <benchmark/benchmark.h>
+#include <keel/linear.hpp>
+
+#include "baselines/baselines.hpp"
+#include "problem.hpp"
+
+namespace keel_bench {
+
+template <typename T>
+const char* scalar_name() {
+  return sizeof(T) == 4 ? "float" : "double";
+}
+
+enum class Variant { joseph, standard, sequential };
+
+template <typename T, int N, int M, Variant V>
+void keel_step(keel::Gaussian<T, N>& est, const Problem<T, N, M>& pr) {
+  if (keel::predict(est, pr.f, pr.q) != keel::Status::ok) std::abort();
+  keel::Status s;
+  if constexpr (V == Variant::joseph) s = keel::correct(est, pr.h, pr.r, pr.z).status;
+  if constexpr (V == Variant::standard) s = keel::correct(est, pr.h, pr.r, pr.z, keel::standard_form).status;
+  if constexpr (V == Variant::sequential)
+    s = keel::correct_sequential(est, pr.h, pr.r.diagonal().eval(), pr.z).status;
+  if (s != keel::Status::ok) std::abort();
+}
+
+template <typename T, int N, int M, Variant V>
+void bm_keel(benchmark::State& state) {
+  const Problem<T, N, M> pr;
+  keel::Gaussian<T, N> est;
+  est.mean = pr.x0;
+  est.cov = pr.p0;
+  for (auto _ : state) {
+    keel_step<T, N, M, V>(est, pr);
+    benchmark::DoNotOptimize(est);
+    benchmark::ClobberMemory();
+  }
+  state.counters["flops"] = benchmark::Counter(kf_step_flops(N, M), benchmark::Counter::kIsIterationInvariantRate);
+}
+
+template <typename T, int N, int M>
+struct LoopsState {
+  T x[N], p[N][N], f[N][N], q[N][N], h[M][N], r[M][M], z[M];
+  explicit LoopsState(const Problem<T, N, M>& pr) {
+    for (int i = 0; i < N; ++i) {
+      x[i] = pr.x0(i);
+      for (int j = 0; j < N; ++j) {
+        p[i][j] = pr.p0(i, j);
+        f[i][j] = pr.f(i, j);
+        q[i][j] = pr.q(i, j);
+      }
+    }
+    for (int i = 0; i < M; ++i) {
+      z[i] = pr.z(i);
+      for (int j = 0; j < N; ++j) h[i][j] = pr.h(i, j);
+      for (int j = 0; j < M; ++j) r[i][j] = pr.r(i, j);
+    }
+  }
+  void step() { loops_step<T, N, M>(x, p, f, q, h, r, z); }
+};
+
+template <typename T, int N, int M>
+struct DynamicState {
+  using Mat = Eigen::Matrix<T, Eigen::Dynamic, Eigen::Dynamic>;
+  using Vec = Eigen::Matrix<T, Eigen::Dynamic, 1>;
+  Vec x, z;
+  Mat p, f, q, h, r;
+  explicit DynamicState(const Problem<T, N, M>& pr)
+      : x(pr.x0), z(pr.z), p(pr.p0), f(pr.f), q(pr.q), h(pr.h), r(pr.r) {}
+  void step() { dynamic_step<T>(x, p, f, q, h, r, z); }
+};
+
+template <typename S, typename T, int N, int M>
+void bm_baseline(benchmark::State& state) {
+  S s{Problem<T, N, M>{}};
+  for (auto _ : state) {
+    s.step();
+    benchmark::DoNotOptimize(s);
+    benchmark::ClobberMemory();
+  }
+  state.counters["flops"] = benchmark::Counter(kf_step_flops(N, M), benchmark::Counter::kIsIterationInvariantRate);
+}
+
+/// Runs 20 steps of keel's Joseph step and of both baselines from the same start and aborts the whole suite
+/// when they disagree by more than 100·ε relative (the same equations, different rounding order).
+template <typename T, int N, int M>
+void check_baselines_agree() {
+  const Problem<T, N, M> pr;
+  keel::Gaussian<T, N> est;
+  est.mean = pr.x0;
+  est.cov = pr.p0;
+  LoopsState<T, N, M> loops(pr);
+  DynamicState<T, N, M> dyn(pr);
+  for (int i = 0; i < 20; ++i) {
+    keel_step<T, N, M, Variant::joseph>(est, pr);
+    loops.step();
+    dyn.step();
+  }
+  const double tol = 100.0 * static_cast<double>(std::numeric_limits<T>::epsilon());
+  double err = 0;
+  for (int i = 0; i < N; ++i) {
+    err = std::fmax(err, std::fabs(static_cast<double>(loops.x[i] - est.mean(i))));
+    err = std::fmax(err, std::fabs(static_cast<double>(dyn.x(i) - est.mean(i))));
+    for (int j = 0; j < N; ++j) {
+      err = std::fmax(err, std::fabs(static_cast<double>(loops.p[i][j] - est.cov(i, j))));
+      err = std::fmax(err, std::fabs(static_cast<double>(dyn.p(i, j) - est.cov(i, j))));
+    }
+  }
+  if (!(err <= tol)) {
+    std::fprintf(stderr, "baselines disagree with keel at %s %dx%d: %g > %g\n", scalar_name<T>(), N, M, err, tol);
+    std::abort();
+  }
+}
+
+template <typename T, int N, int M>
+void register_kf_step() {
+  check_baselines_agree<T, N, M>();
+  const std::string tail = std::string("/") + scalar_name<T>() + "/" + std::to_string(N) + "x" + std::to_string(M);
+  benchmark::RegisterBenchmark(("kf_step/joseph" + tail).c_str(), bm_keel<T, N, M, Variant::joseph>);
+  benchmark::RegisterBenchmark(("kf_step/standard" + tail).c_str(), bm_keel<T, N, M, Variant::standard>);
+  benchmark::RegisterBenchmark(("kf_step/sequential" + tail).c_str(), bm_keel<T, N, M, Variant::sequential>);
+  benchmark::RegisterBenchmark(("kf_step/dynamic_baseline" + tail).c_str(),
+                               bm_baseline<DynamicState<T, N, M>, T, N, M>);
+  benchmark::RegisterBenchmark(("kf_step/loops_baseline" + tail).c_str(), bm_baseline<LoopsState<T, N, M>, T, N, M>);
+}
+
+void register_float();
+void register_double();
+
+}  // namespace keel_bench
