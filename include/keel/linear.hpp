@@ -37,13 +37,13 @@ Eigen::Matrix<T, N, N> joseph_covariance(const Eigen::Matrix<T, N, N>& p, const 
                                          const Eigen::Matrix<T, M, M>& r, const Eigen::Matrix<T, N, M>& pht,
                                          const Eigen::Matrix<T, N, M>& k) noexcept {
   Eigen::Matrix<T, N, N> c = p;
-  c.noalias() -= k * pht.transpose();
+  c.noalias() -= k.lazyProduct(pht.transpose());
   Eigen::Matrix<T, N, M> cht;
-  cht.noalias() = c * h.transpose();
+  cht.noalias() = c.lazyProduct(h.transpose());
   Eigen::Matrix<T, N, M> kr;
-  kr.noalias() = k * r;
-  c.noalias() -= cht * k.transpose();
-  c.noalias() += kr * k.transpose();
+  kr.noalias() = k.lazyProduct(r);
+  c.noalias() -= cht.lazyProduct(k.transpose());
+  c.noalias() += kr.lazyProduct(k.transpose());
   return c;
 }
 
@@ -58,7 +58,7 @@ Status apply_gain(Gaussian<T, N>& est, const Eigen::Matrix<T, M, N>& h, const Ei
   Eigen::Matrix<T, N, N> p;
   if constexpr (std::is_same_v<Form, standard_form_t>) {
     p = est.cov;
-    p.noalias() -= k * pht.transpose();
+    p.noalias() -= k.lazyProduct(pht.transpose());
   } else {
     p = joseph_covariance(est.cov, h, r, pht, k);
   }
@@ -81,9 +81,9 @@ Innovation<T, M> innovate(const Gaussian<T, N>& est, const Eigen::Matrix<T, M, N
   if (inn.status != Status::ok) return inn;
   inn.residual = z;
   inn.residual.noalias() -= h * est.mean;
-  pht.noalias() = est.cov * h.transpose();
+  pht.noalias() = est.cov.lazyProduct(h.transpose());
   inn.cov = r;
-  inn.cov.noalias() += h * pht;
+  inn.cov.noalias() += h.lazyProduct(pht);
   symmetrize(inn.cov);
   l = inn.cov;
   if (!cholesky_in_place(l)) {
@@ -140,9 +140,9 @@ template <typename T, int N, typename DF, typename DQ>
   Eigen::Matrix<T, N, 1> x;
   x.noalias() = fm * est.mean;
   Eigen::Matrix<T, N, N> fp;
-  fp.noalias() = fm * est.cov;
+  fp.noalias() = fm.lazyProduct(est.cov);
   Eigen::Matrix<T, N, N> p = qm;
-  p.noalias() += fp * fm.transpose();
+  p.noalias() += fp.lazyProduct(fm.transpose());
   detail::symmetrize(p);
   if (!detail::all_finite(x) || !detail::all_finite(p)) return Status::non_finite;
   est.mean = x;

@@ -44,8 +44,26 @@ constexpr bool is_finite(T x) noexcept {
   }
 }
 
+/// \brief True when every entry of a is finite. Same exponent-bit test as is_finite, accumulated without early exit
+/// over contiguous storage so that the compiler vectorizes it (this check runs on every input of every kernel).
 template <typename Derived>
 bool all_finite(const Eigen::MatrixBase<Derived>& a) noexcept {
+  using T = typename Derived::Scalar;
+  using Bits = std::conditional_t<std::is_same_v<T, float>, std::uint32_t, std::uint64_t>;
+  constexpr Bits exponent = std::is_same_v<T, float> ? Bits(0x7f800000u) : Bits(0x7ff0000000000000ull);
+  const auto& m = a.derived();
+  if constexpr (Derived::IsVectorAtCompileTime || (static_cast<int>(Derived::Flags) & Eigen::DirectAccessBit) != 0) {
+    if (m.innerStride() == 1 && (m.outerStride() == m.innerSize() || m.outerSize() == 1)) {
+      const T* data = m.data();
+      unsigned bad = 0;
+      for (Eigen::Index i = 0; i < m.size(); ++i) {
+        Bits bits = 0;
+        std::memcpy(&bits, data + i, sizeof bits);
+        bad |= static_cast<unsigned>((bits & exponent) == exponent);
+      }
+      return bad == 0;
+    }
+  }
   for (Eigen::Index j = 0; j < a.cols(); ++j)
     for (Eigen::Index i = 0; i < a.rows(); ++i)
       if (!is_finite(a.coeff(i, j))) return false;
@@ -121,17 +139,21 @@ void backward_substitute_transposed(const Eigen::Matrix<T, N, N>& l, Eigen::Matr
   }
 }
 
-/// \brief X = B S⁻¹ given the Cholesky factor L of S (S = L Lᵀ), one row of B at a time: no matrix
-/// right-hand side, so nothing of Eigen's blocked solver (which allocates on some targets) is pulled in.
+/// \brief X = B S⁻¹ given the Cholesky factor L of S (S = L Lᵀ): first Y Lᵀ = B column by column (forward),
+/// then X L = Y column by column (backward). Each step is an operation on a whole R-vector column, so it
+/// vectorizes, and no matrix right-hand side reaches Eigen's blocked solver (which allocates on some targets).
 template <typename T, int R, int M>
 void right_solve_spd(const Eigen::Matrix<T, M, M>& l, const Eigen::Matrix<T, R, M>& b,
                      Eigen::Matrix<T, R, M>& x) noexcept {
-  Eigen::Matrix<T, M, 1> v;
-  for (int i = 0; i < R; ++i) {
-    v = b.row(i).transpose();
-    forward_substitute(l, v);
-    backward_substitute_transposed(l, v);
-    x.row(i) = v.transpose();
+  for (int j = 0; j < M; ++j) {
+    Eigen::Matrix<T, R, 1> v = b.col(j);
+    for (int k = 0; k < j; ++k) v -= l(j, k) * x.col(k);
+    x.col(j) = v * (T(1) / l(j, j));
+  }
+  for (int j = M - 1; j >= 0; --j) {
+    Eigen::Matrix<T, R, 1> v = x.col(j);
+    for (int k = j + 1; k < M; ++k) v -= l(k, j) * x.col(k);
+    x.col(j) = v * (T(1) / l(j, j));
   }
 }
 
