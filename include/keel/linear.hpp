@@ -302,7 +302,7 @@ template <typename T, int N, typename DH, typename DR, typename DZ>
     b.noalias() = p * hi.transpose();
     const T s = hi.dot(b) + r(i);
     // Same relative floor as the Cholesky pivot of the joint S (the sequential s_i are its pivots).
-    if (!(s > detail::pivot_floor_factor<T, N>() * inn.cov(i, i)) || !detail::is_finite(s)) {
+    if (!(s > detail::pivot_floor_factor<T, M>() * inn.cov(i, i)) || !detail::is_finite(s)) {
       inn.status = detail::is_finite(s) ? Status::not_positive_definite : Status::non_finite;
       return inn;
     }
