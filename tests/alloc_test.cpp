@@ -69,7 +69,7 @@ TEST_CASE("the counting allocator sees allocations (the proof below can fail)") 
         }) >= 1);
 }
 
-TEST_CASE_TEMPLATE("linear kernels and gating allocate nothing", T, float, double) {
+TEST_CASE_TEMPLATE("linear kernels, gating and the NIS monitor allocate nothing", T, float, double) {
   std::mt19937 rng(1);
   keel::Gaussian<T, 6> est;
   est.cov = keel_test::random_spd<T, 6>(rng);
@@ -84,10 +84,14 @@ TEST_CASE_TEMPLATE("linear kernels and gating allocate nothing", T, float, doubl
   const Eigen::Matrix<T, 6, 3> k = keel_test::random_matrix<T, 6, 3>(rng, 0.1);
   keel::Status s[9] = {};
   T nees = 0;
+  keel::NisMonitor<T, 3, 16> monitor;  // bounds computed here, at init time
+  bool recorded = false;
   const long n = allocations_in([&] {
     s[0] = keel::predict(est, f, q);
     s[1] = keel::predict(est, f, b, u, q);
-    s[2] = keel::correct(est, h, r, z).status;
+    const auto inn = keel::correct(est, h, r, z);
+    s[2] = inn.status;
+    recorded = monitor.add(inn);
     s[3] = keel::correct(est, h, r, z, keel::standard_form).status;
     s[4] = keel::correct(est, h, r, z, keel::Gate<T>{T(1e6)}).status;
     s[5] = keel::correct_with_gain(est, h, r, z, k).status;
@@ -101,4 +105,5 @@ TEST_CASE_TEMPLATE("linear kernels and gating allocate nothing", T, float, doubl
   CHECK(s[7] == keel::Status::gated);
   CHECK(s[8] == keel::Status::negative_variance);
   CHECK(nees >= T(0));
+  CHECK(recorded);
 }

@@ -6,6 +6,7 @@
 #include <limits>
 
 #include "core/gaussian.hpp"
+#include "core/innovation.hpp"
 #include "core/linalg.hpp"
 
 namespace keel {
@@ -97,6 +98,72 @@ inline double chi2_quantile(int dof, double p) noexcept {
   }
   return x;
 }
+
+/// \brief Verdict of a consistency monitor.
+enum class Consistency : unsigned char {
+  insufficient_data,  ///< the window is not full yet
+  consistent,         ///< the mean NIS lies inside its two-sided chi-square interval
+  overconfident,      ///< mean NIS above the interval: the filter's covariance is too small (or a bias)
+  underconfident,     ///< mean NIS below the interval: the filter's covariance is too large
+};
+
+/// \brief Windowed NIS consistency monitor for an M-dimensional measurement: keeps the last `Window` NIS values
+/// in a fixed ring (no heap) and compares their mean with the two-sided interval of a consistent filter, for which
+/// Window·mean ~ χ²(Window·M) (Bar-Shalom, Li & Kirubarajan, "Estimation with Applications to Tracking and
+/// Navigation", 2001, sec. 5.4; from memory). The bounds are computed once, at construction (init-time code).
+/// The running sum is recomputed from the ring each time it wraps, so float rounding cannot drift over long runs.
+template <typename T, int M, int Window>
+class NisMonitor {
+  static_assert(M > 0 && Window > 0, "keel::NisMonitor: M and Window must be positive");
+
+ public:
+  /// \param confidence two-sided probability of the interval, e.g. 0.95.
+  explicit NisMonitor(double confidence = 0.95) noexcept
+      : lower_(static_cast<T>(chi2_quantile(Window * M, 0.5 * (1.0 - confidence)) / Window)),
+        upper_(static_cast<T>(chi2_quantile(Window * M, 0.5 * (1.0 + confidence)) / Window)) {}
+
+  /// \brief Records one NIS value. \returns false (and records nothing) when it is negative or not finite.
+  bool add(T nis) noexcept {
+    if (!detail::is_finite(nis) || nis < T(0)) return false;
+    const T leaving = count_ == Window ? ring_[next_] : T(0);
+    ring_[next_] = nis;
+    next_ = (next_ + 1) % Window;
+    if (count_ < Window) ++count_;
+    if (next_ == 0) {  // wrapped: recompute exactly, amortized O(1) per value
+      sum_ = T(0);
+      for (int i = 0; i < Window; ++i) sum_ += ring_[i];
+    } else {
+      sum_ += nis - leaving;
+    }
+    return true;
+  }
+
+  /// \brief Records the NIS of an accepted correction (status ok); gated and failed ones are not recorded,
+  /// so rejected outliers do not mask an inconsistent filter. \returns whether it was recorded.
+  bool add(const Innovation<T, M>& inn) noexcept { return inn.status == Status::ok && add(inn.nis); }
+
+  int count() const noexcept { return count_; }
+  /// \brief Mean NIS over the values held (0 when empty).
+  T mean() const noexcept { return count_ > 0 ? sum_ / static_cast<T>(count_) : T(0); }
+  T lower() const noexcept { return lower_; }
+  T upper() const noexcept { return upper_; }
+
+  Consistency verdict() const noexcept {
+    if (count_ < Window) return Consistency::insufficient_data;
+    const T m = mean();
+    if (m > upper_) return Consistency::overconfident;
+    if (m < lower_) return Consistency::underconfident;
+    return Consistency::consistent;
+  }
+
+ private:
+  T ring_[Window] = {};
+  T sum_ = T(0);
+  T lower_;
+  T upper_;
+  int next_ = 0;
+  int count_ = 0;
+};
 
 /// \brief Normalized estimation error squared \f$ (x - \hat x)^T P^{-1} (x - \hat x) \f$ of an estimate
 /// against the true state (for simulation studies). Returns +infinity when P is not positive-definite.

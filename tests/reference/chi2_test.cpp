@@ -66,3 +66,50 @@ TEST_CASE_TEMPLATE("nees equals the closed form for a diagonal covariance", T, f
   est.cov(1, 1) = T(0);
   CHECK(keel::nees(est, truth) == std::numeric_limits<T>::infinity());
 }
+
+TEST_CASE_TEMPLATE("NisMonitor verdicts for constant inputs follow from the chi-square interval", T, float, double) {
+  // The interval for the mean of 50 NIS values of a 2-dimensional measurement is
+  // [χ²⁻¹(0.025; 100), χ²⁻¹(0.975; 100)] / 50 (chi2_quantile is checked against SciPy above).
+  keel::NisMonitor<T, 2, 50> mon(0.95);
+  CHECK(static_cast<double>(mon.lower()) == doctest::Approx(keel::chi2_quantile(100, 0.025) / 50).epsilon(1e-6));
+  CHECK(static_cast<double>(mon.upper()) == doctest::Approx(keel::chi2_quantile(100, 0.975) / 50).epsilon(1e-6));
+  for (int i = 0; i < 49; ++i) CHECK(mon.add(T(2)));
+  CHECK(mon.verdict() == keel::Consistency::insufficient_data);
+  CHECK(mon.add(T(2)));
+  // E[NIS] = M = 2 for a consistent filter: the mean sits at the centre of the interval.
+  CHECK(mon.verdict() == keel::Consistency::consistent);
+  for (int i = 0; i < 50; ++i) CHECK(mon.add(T(6)));
+  CHECK(mon.verdict() == keel::Consistency::overconfident);
+  CHECK(static_cast<double>(mon.mean()) == doctest::Approx(6.0).epsilon(1e-6));
+  for (int i = 0; i < 50; ++i) CHECK(mon.add(T(0.5)));
+  CHECK(mon.verdict() == keel::Consistency::underconfident);
+  CHECK_FALSE(mon.add(std::numeric_limits<T>::quiet_NaN()));
+  CHECK_FALSE(mon.add(T(-1)));
+  CHECK(mon.count() == 50);
+  keel::Innovation<T, 2> gated;
+  gated.status = keel::Status::gated;
+  gated.nis = T(1000);
+  CHECK_FALSE(mon.add(gated));
+  CHECK(static_cast<double>(mon.mean()) == doctest::Approx(0.5).epsilon(1e-6));
+}
+
+TEST_CASE_TEMPLATE("NisMonitor flags about 5% of windows of true chi-square samples", T, float, double) {
+  // For NIS drawn exactly from χ²(1) (a squared standard normal), a 95% interval holds the window mean in 95% of
+  // disjoint windows. Over 2000 windows the binomial std of the hit rate is √(0.95·0.05/2000) ≈ 0.0049, so the
+  // rate must lie in [0.93, 0.97] (4 std); the seed is fixed, so the test is deterministic.
+  std::mt19937 rng(2026);
+  std::normal_distribution<double> n01(0, 1);
+  keel::NisMonitor<T, 1, 40> mon(0.95);
+  int inside = 0;
+  for (int w = 0; w < 2000; ++w) {
+    for (int i = 0; i < 40; ++i) {
+      const double e = n01(rng);
+      REQUIRE(mon.add(static_cast<T>(e * e)));
+    }
+    inside += mon.verdict() == keel::Consistency::consistent;
+  }
+  const double rate = inside / 2000.0;
+  MESSAGE("share of windows judged consistent: ", rate);
+  CHECK(rate >= 0.93);
+  CHECK(rate <= 0.97);
+}
