@@ -69,7 +69,7 @@ TEST_CASE("the counting allocator sees allocations (the proof below can fail)") 
         }) >= 1);
 }
 
-TEST_CASE_TEMPLATE("linear kernels, gating and the NIS monitor allocate nothing", T, float, double) {
+TEST_CASE_TEMPLATE("linear kernels, gating, the NIS monitor and Cholesky up/downdates allocate nothing", T, float, double) {
   std::mt19937 rng(1);
   keel::Gaussian<T, 6> est;
   est.cov = keel_test::random_spd<T, 6>(rng);
@@ -86,6 +86,7 @@ TEST_CASE_TEMPLATE("linear kernels, gating and the NIS monitor allocate nothing"
   T nees = 0;
   keel::NisMonitor<T, 3, 16> monitor;  // bounds computed here, at init time
   bool recorded = false;
+  bool cholesky_ok = false;
   const long n = allocations_in([&] {
     s[0] = keel::predict(est, f, q);
     s[1] = keel::predict(est, f, b, u, q);
@@ -99,6 +100,10 @@ TEST_CASE_TEMPLATE("linear kernels, gating and the NIS monitor allocate nothing"
     s[7] = keel::correct(est, h, r, z, keel::Gate<T>{T(0)}).status;  // gated path
     s[8] = keel::correct(est, h, (-r).eval(), z).status;             // failure path
     nees = keel::nees(est, k.col(0));
+    Eigen::Matrix<T, 6, 6> factor = Eigen::Matrix<T, 6, 6>::Identity();
+    const Eigen::Matrix<T, 6, 1> v = k.col(1);
+    cholesky_ok = keel::cholesky_update(factor, v) == keel::Status::ok &&
+                  keel::cholesky_downdate(factor, v) == keel::Status::ok;
   });
   CHECK(n == 0);
   for (int i = 0; i < 7; ++i) CHECK(s[i] == keel::Status::ok);
@@ -106,4 +111,5 @@ TEST_CASE_TEMPLATE("linear kernels, gating and the NIS monitor allocate nothing"
   CHECK(s[8] == keel::Status::negative_variance);
   CHECK(nees >= T(0));
   CHECK(recorded);
+  CHECK(cholesky_ok);
 }

@@ -14,6 +14,8 @@
 
 #include <Eigen/Core>
 
+#include "status.hpp"
+
 namespace keel::detail {
 
 /// Compile-time rows and columns as int (Eigen's are distinct enum types; comparing them directly warns).
@@ -158,3 +160,52 @@ void right_solve_spd(const Eigen::Matrix<T, M, M>& l, const Eigen::Matrix<T, R, 
 }
 
 }  // namespace keel::detail
+
+namespace keel {
+
+namespace detail {
+/// Shared body of the rank-1 update (sign +1) and downdate (sign −1) of a lower Cholesky factor.
+template <typename T, int N>
+Status cholesky_rank1(Eigen::Matrix<T, N, N>& l, const Eigen::Matrix<T, N, 1>& v, T sign) noexcept {
+  if (!all_finite(l) || !all_finite(v)) return Status::non_finite;
+  Eigen::Matrix<T, N, N> out = l;
+  Eigen::Matrix<T, N, 1> x = v;
+  for (int k = 0; k < N; ++k) {
+    const T lkk = out(k, k);
+    if (!(lkk > T(0))) return Status::not_positive_definite;
+    const T r2 = lkk * lkk + sign * x(k) * x(k);
+    if (!(r2 > pivot_floor_factor<T, N>() * lkk * lkk) || !is_finite(r2)) return Status::not_positive_definite;
+    const T r = std::sqrt(r2);
+    const T c = r / lkk;
+    const T s = x(k) / lkk;
+    out(k, k) = r;
+    for (int i = k + 1; i < N; ++i) {
+      out(i, k) = (out(i, k) + sign * s * x(i)) / c;
+      x(i) = c * x(i) - s * out(i, k);
+    }
+  }
+  if (!all_finite(out)) return Status::non_finite;
+  l = out;
+  return Status::ok;
+}
+}  // namespace detail
+
+/// \brief Rank-1 update of a lower Cholesky factor in place: on return \f$ L L^T = L_0 L_0^T + v v^T \f$.
+/// O(N²), heap-free (Eigen's LLT::rankUpdate allocates a temporary even for fixed sizes). Column k uses
+/// \f$ r = \sqrt{l_{kk}^2 + x_k^2},\ c = r/l_{kk},\ s = x_k/l_{kk},\ l_{ik} \leftarrow (l_{ik} + s x_i)/c,
+/// \ x_i \leftarrow c x_i - s l_{ik} \f$ (Golub & Van Loan, "Matrix Computations", 4th ed., 2013, sec. 6.5.4).
+/// \returns ok, non_finite, or not_positive_definite when L has a non-positive diagonal; L unchanged on failure.
+template <typename T, int N>
+[[nodiscard]] Status cholesky_update(Eigen::Matrix<T, N, N>& l, const Eigen::Matrix<T, N, 1>& v) noexcept {
+  return detail::cholesky_rank1(l, v, T(1));
+}
+
+/// \brief Rank-1 downdate of a lower Cholesky factor in place: on return \f$ L L^T = L_0 L_0^T - v v^T \f$
+/// (same recurrence with the signs of the hyperbolic rotation). \returns not_positive_definite, leaving L
+/// unchanged, when the result would not be positive-definite (a pivot at or below n·ε of its old value).
+template <typename T, int N>
+[[nodiscard]] Status cholesky_downdate(Eigen::Matrix<T, N, N>& l, const Eigen::Matrix<T, N, 1>& v) noexcept {
+  return detail::cholesky_rank1(l, v, T(-1));
+}
+
+}  // namespace keel
