@@ -155,7 +155,7 @@ template <typename T, int N, typename DF, typename DQ>
 template <typename T, int N, typename DF, typename DB, typename DU, typename DQ>
 [[nodiscard]] Status predict(Gaussian<T, N>& est, const Eigen::MatrixBase<DF>& f, const Eigen::MatrixBase<DB>& b,
                              const Eigen::MatrixBase<DU>& u, const Eigen::MatrixBase<DQ>& q) noexcept {
-  static_assert(detail::cols_v<DU> == 1 && detail::rows_v<DU> != Eigen::Dynamic,
+  static_assert(detail::cols_v<DU> == 1 && detail::is_fixed_size<DU>(),
                 "keel::predict: u must be a fixed-size column vector");
   static_assert(detail::rows_v<DB> == N, "keel::predict: B must have N rows, N the state dimension");
   static_assert(detail::cols_v<DB> == detail::rows_v<DU>,

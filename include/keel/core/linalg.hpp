@@ -26,7 +26,7 @@ inline constexpr int cols_v = static_cast<int>(Derived::ColsAtCompileTime);
 
 template <typename Derived>
 constexpr bool is_fixed_size() {
-  return rows_v<Derived> != Eigen::Dynamic && cols_v<Derived> != Eigen::Dynamic;
+  return rows_v<Derived> >= 0 && cols_v<Derived> >= 0;  // Eigen marks run-time sizes with a negative value
 }
 
 
