@@ -7,3 +7,5 @@
 #include "core/status.hpp"
 #include "gate.hpp"
 #include "linear.hpp"
+#include "sqrt.hpp"
+#include "ud.hpp"

@@ -116,6 +116,22 @@ constexpr void check_correct_dims() {
                 "keel::correct: H, R and z must have the estimate's scalar type");
 }
 
+template <typename T, int N, typename DH, typename DR, typename DZ>
+constexpr void check_sequential_dims() {
+  static_assert(detail::is_fixed_size<DH>() && detail::is_fixed_size<DR>() && detail::is_fixed_size<DZ>(),
+                "keel::correct_sequential: H, r_diag and z must be fixed-size Eigen matrices");
+  static_assert(detail::cols_v<DZ> == 1 && detail::cols_v<DR> == 1,
+                "keel::correct_sequential: z and r_diag must be column vectors");
+  static_assert(detail::rows_v<DH> == detail::rows_v<DZ>,
+                "keel::correct_sequential: H must have as many rows as z has entries");
+  static_assert(detail::rows_v<DR> == detail::rows_v<DZ>,
+                "keel::correct_sequential: r_diag must have as many entries as z (one variance per row)");
+  static_assert(detail::cols_v<DH> == N, "keel::correct_sequential: H must have N columns, N the state dimension");
+  static_assert(std::is_same_v<typename DH::Scalar, T> && std::is_same_v<typename DR::Scalar, T> &&
+                    std::is_same_v<typename DZ::Scalar, T>,
+                "keel::correct_sequential: H, r_diag and z must have the estimate's scalar type");
+}
+
 }  // namespace detail
 
 /// \brief Time update \f$ x^- = F x,\; P^- = F P F^T + Q \f$ (Kalman, "A New Approach to Linear Filtering
@@ -150,10 +166,11 @@ template <typename T, int N, typename DF, typename DQ>
   return Status::ok;
 }
 
-/// \brief Time update with a control input: \f$ x^- = F x + B u,\; P^- = F P F^T + Q \f$.
+/// \brief Time update with a control input, for every estimate type E (Gaussian, SqrtGaussian, UdGaussian):
+/// \f$ x^- = F x + B u \f$ and the covariance (or its factor) propagated by `predict(est, F, Q)` of that type.
 /// \returns as predict(est, F, Q); also non_finite when B or u is not finite.
-template <typename T, int N, typename DF, typename DB, typename DU, typename DQ>
-[[nodiscard]] Status predict(Gaussian<T, N>& est, const Eigen::MatrixBase<DF>& f, const Eigen::MatrixBase<DB>& b,
+template <template <typename, int> class E, typename T, int N, typename DF, typename DB, typename DU, typename DQ>
+[[nodiscard]] Status predict(E<T, N>& est, const Eigen::MatrixBase<DF>& f, const Eigen::MatrixBase<DB>& b,
                              const Eigen::MatrixBase<DU>& u, const Eigen::MatrixBase<DQ>& q) noexcept {
   static_assert(detail::cols_v<DU> == 1 && detail::is_fixed_size<DU>(),
                 "keel::predict: u must be a fixed-size column vector");
@@ -165,7 +182,7 @@ template <typename T, int N, typename DF, typename DB, typename DU, typename DQ>
   const auto& bm = b.eval();
   const auto& um = u.eval();
   if (!detail::all_finite(bm) || !detail::all_finite(um)) return Status::non_finite;
-  Gaussian<T, N> next = est;
+  E<T, N> next = est;
   const Status s = predict(next, f, q);
   if (s != Status::ok) return s;
   next.mean.noalias() += bm * um;
@@ -256,18 +273,7 @@ template <typename T, int N, typename DH, typename DR, typename DZ>
 [[nodiscard]] Innovation<T, detail::rows_v<DZ>> correct_sequential(
     Gaussian<T, N>& est, const Eigen::MatrixBase<DH>& h, const Eigen::MatrixBase<DR>& r_diag,
     const Eigen::MatrixBase<DZ>& z, const Gate<T>& gate = Gate<T>{}) noexcept {
-  static_assert(detail::is_fixed_size<DH>() && detail::is_fixed_size<DR>() && detail::is_fixed_size<DZ>(),
-                "keel::correct_sequential: H, r_diag and z must be fixed-size Eigen matrices");
-  static_assert(detail::cols_v<DZ> == 1 && detail::cols_v<DR> == 1,
-                "keel::correct_sequential: z and r_diag must be column vectors");
-  static_assert(detail::rows_v<DH> == detail::rows_v<DZ>,
-                "keel::correct_sequential: H must have as many rows as z has entries");
-  static_assert(detail::rows_v<DR> == detail::rows_v<DZ>,
-                "keel::correct_sequential: r_diag must have as many entries as z (one variance per row)");
-  static_assert(detail::cols_v<DH> == N, "keel::correct_sequential: H must have N columns, N the state dimension");
-  static_assert(std::is_same_v<typename DH::Scalar, T> && std::is_same_v<typename DR::Scalar, T> &&
-                    std::is_same_v<typename DZ::Scalar, T>,
-                "keel::correct_sequential: H, r_diag and z must have the estimate's scalar type");
+  detail::check_sequential_dims<T, N, DH, DR, DZ>();
   constexpr int M = detail::rows_v<DZ>;
   const Eigen::Matrix<T, M, N> hm = h;
   const Eigen::Matrix<T, M, 1> r = r_diag;
