@@ -7,6 +7,8 @@
 
 #include <benchmark/benchmark.h>
 #include <keel/linear.hpp>
+#include <keel/sqrt.hpp>
+#include <keel/ud.hpp>
 
 #include "baselines/baselines.hpp"
 #include "problem.hpp"
@@ -18,25 +20,48 @@ const char* scalar_name() {
   return sizeof(T) == 4 ? "float" : "double";
 }
 
-enum class Variant { joseph, standard, sequential };
+/// joseph, standard, sequential: Gaussian; sqrt: SqrtGaussian with the QR array time and measurement updates;
+/// sqrt_sequential: SqrtGaussian with the QR array time update and Potter's scalar updates; ud: UdGaussian with
+/// Thornton's time update and Bierman's scalar updates (the problem's R is diagonal).
+enum class Variant { joseph, standard, sequential, sqrt, sqrt_sequential, ud };
+
+template <typename T, int N, Variant V>
+using EstimateFor = std::conditional_t<V == Variant::ud, keel::UdGaussian<T, N>,
+                                       std::conditional_t<V == Variant::sqrt || V == Variant::sqrt_sequential,
+                                                          keel::SqrtGaussian<T, N>, keel::Gaussian<T, N>>>;
 
 template <typename T, int N, int M, Variant V>
-void keel_step(keel::Gaussian<T, N>& est, const Problem<T, N, M>& pr) {
+void keel_step(EstimateFor<T, N, V>& est, const Problem<T, N, M>& pr) {
   if (keel::predict(est, pr.f, pr.q) != keel::Status::ok) std::abort();
   keel::Status s;
-  if constexpr (V == Variant::joseph) s = keel::correct(est, pr.h, pr.r, pr.z).status;
+  if constexpr (V == Variant::joseph || V == Variant::sqrt) s = keel::correct(est, pr.h, pr.r, pr.z).status;
   if constexpr (V == Variant::standard) s = keel::correct(est, pr.h, pr.r, pr.z, keel::standard_form).status;
-  if constexpr (V == Variant::sequential)
-    s = keel::correct_sequential(est, pr.h, pr.r.diagonal().eval(), pr.z).status;
+  if constexpr (V == Variant::sequential || V == Variant::sqrt_sequential || V == Variant::ud)
+    s = keel::correct_sequential(est, pr.h, pr.r_diag, pr.z).status;
   if (s != keel::Status::ok) std::abort();
+}
+
+template <typename T, int N, int M, Variant V>
+EstimateFor<T, N, V> initial_estimate(const Problem<T, N, M>& pr) {
+  keel::Gaussian<T, N> g;
+  g.mean = pr.x0;
+  g.cov = pr.p0;
+  if constexpr (std::is_same_v<EstimateFor<T, N, V>, keel::Gaussian<T, N>>) {
+    return g;
+  } else {
+    EstimateFor<T, N, V> e;
+    keel::Status s;
+    if constexpr (V == Variant::ud) s = keel::to_ud(g, e);
+    else s = keel::to_sqrt(g, e);
+    if (s != keel::Status::ok) std::abort();
+    return e;
+  }
 }
 
 template <typename T, int N, int M, Variant V>
 void bm_keel(benchmark::State& state) {
   const Problem<T, N, M> pr;
-  keel::Gaussian<T, N> est;
-  est.mean = pr.x0;
-  est.cov = pr.p0;
+  EstimateFor<T, N, V> est = initial_estimate<T, N, M, V>(pr);
   for (auto _ : state) {
     keel_step<T, N, M, V>(est, pr);
     benchmark::DoNotOptimize(est);
@@ -88,14 +113,29 @@ void bm_baseline(benchmark::State& state) {
   state.counters["flops"] = benchmark::Counter(kf_step_flops(N, M), benchmark::Counter::kIsIterationInvariantRate);
 }
 
+/// The factored variants after the same 20 steps must stand for the Joseph filter's estimate (100·ε relative:
+/// same equations, different rounding; the problem is well conditioned).
+template <typename T, int N, int M, Variant V>
+void check_factored_agree(const keel::Gaussian<T, N>& joseph) {
+  const Problem<T, N, M> pr;
+  EstimateFor<T, N, V> est = initial_estimate<T, N, M, V>(pr);
+  for (int i = 0; i < 20; ++i) keel_step<T, N, M, V>(est, pr);
+  keel::Gaussian<T, N> g;
+  if (keel::to_gaussian(est, g) != keel::Status::ok) std::abort();
+  const double err = std::fmax((g.mean - joseph.mean).cwiseAbs().maxCoeff(), (g.cov - joseph.cov).cwiseAbs().maxCoeff());
+  if (!(err <= 100.0 * static_cast<double>(std::numeric_limits<T>::epsilon()))) {
+    std::fprintf(stderr, "factored variant %d disagrees with Joseph at %s %dx%d: %g\n", static_cast<int>(V),
+                 scalar_name<T>(), N, M, err);
+    std::abort();
+  }
+}
+
 /// Runs 20 steps of keel's Joseph step and of both baselines from the same start and aborts the whole suite
 /// when they disagree by more than 100·ε relative (the same equations, different rounding order).
 template <typename T, int N, int M>
 void check_baselines_agree() {
   const Problem<T, N, M> pr;
-  keel::Gaussian<T, N> est;
-  est.mean = pr.x0;
-  est.cov = pr.p0;
+  keel::Gaussian<T, N> est = initial_estimate<T, N, M, Variant::joseph>(pr);
   LoopsState<T, N, M> loops(pr);
   DynamicState<T, N, M> dyn(pr);
   for (int i = 0; i < 20; ++i) {
@@ -117,6 +157,9 @@ void check_baselines_agree() {
     std::fprintf(stderr, "baselines disagree with keel at %s %dx%d: %g > %g\n", scalar_name<T>(), N, M, err, tol);
     std::abort();
   }
+  check_factored_agree<T, N, M, Variant::sqrt>(est);
+  check_factored_agree<T, N, M, Variant::sqrt_sequential>(est);
+  check_factored_agree<T, N, M, Variant::ud>(est);
 }
 
 template <typename T, int N, int M>
@@ -126,6 +169,9 @@ void register_kf_step() {
   benchmark::RegisterBenchmark(("kf_step/joseph" + tail).c_str(), bm_keel<T, N, M, Variant::joseph>);
   benchmark::RegisterBenchmark(("kf_step/standard" + tail).c_str(), bm_keel<T, N, M, Variant::standard>);
   benchmark::RegisterBenchmark(("kf_step/sequential" + tail).c_str(), bm_keel<T, N, M, Variant::sequential>);
+  benchmark::RegisterBenchmark(("kf_step/sqrt" + tail).c_str(), bm_keel<T, N, M, Variant::sqrt>);
+  benchmark::RegisterBenchmark(("kf_step/sqrt_sequential" + tail).c_str(), bm_keel<T, N, M, Variant::sqrt_sequential>);
+  benchmark::RegisterBenchmark(("kf_step/ud" + tail).c_str(), bm_keel<T, N, M, Variant::ud>);
   benchmark::RegisterBenchmark(("kf_step/dynamic_baseline" + tail).c_str(),
                                bm_baseline<DynamicState<T, N, M>, T, N, M>);
   benchmark::RegisterBenchmark(("kf_step/loops_baseline" + tail).c_str(), bm_baseline<LoopsState<T, N, M>, T, N, M>);

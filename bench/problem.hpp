@@ -21,6 +21,7 @@ struct Problem {
   Eigen::Matrix<T, M, N> h;
   Eigen::Matrix<T, M, M> r;
   Eigen::Matrix<T, M, 1> z;
+  Eigen::Matrix<T, M, 1> r_diag;  // R is diagonal: the sequential variants take its diagonal
   Eigen::Matrix<T, N, 1> x0;
 
   Problem() {
@@ -36,6 +37,7 @@ struct Problem {
     }
     r.setIdentity();
     r *= T(0.1);
+    r_diag = r.diagonal();
     for (int i = 0; i < M; ++i) z(i) = T(0.1) * T(i + 1);
     for (int i = 0; i < N; ++i) x0(i) = T(0.01) * T(i);
   }

@@ -113,3 +113,52 @@ TEST_CASE_TEMPLATE("linear kernels, gating, the NIS monitor and Cholesky up/down
   CHECK(recorded);
   CHECK(cholesky_ok);
 }
+
+TEST_CASE_TEMPLATE("square-root and UD kernels and the conversions allocate nothing", T, float, double) {
+  std::mt19937 rng(2);
+  keel::Gaussian<T, 6> g;
+  g.cov = keel_test::random_spd<T, 6>(rng);
+  const Eigen::Matrix<T, 6, 6> f = Eigen::Matrix<T, 6, 6>::Identity() + keel_test::random_matrix<T, 6, 6>(rng, 0.1);
+  const Eigen::Matrix<T, 6, 6> q = keel_test::random_spd<T, 6>(rng, 0.01, 0.1);
+  const Eigen::Matrix<T, 6, 2> b = keel_test::random_matrix<T, 6, 2>(rng);
+  const Eigen::Matrix<T, 2, 1> u = keel_test::random_matrix<T, 2, 1>(rng);
+  const Eigen::Matrix<T, 3, 6> h = keel_test::random_matrix<T, 3, 6>(rng);
+  const Eigen::Matrix<T, 3, 3> r = keel_test::random_spd<T, 3>(rng);
+  const Eigen::Matrix<T, 3, 1> rd(T(0.5), T(1), T(2));
+  const Eigen::Matrix<T, 3, 1> z = keel_test::random_matrix<T, 3, 1>(rng);
+  keel::SqrtGaussian<T, 6> sq;
+  keel::UdGaussian<T, 6> ud;
+  keel::Status s[22] = {};
+  T nees_sum = 0;
+  const long n = allocations_in([&] {
+    s[0] = keel::to_sqrt(g, sq);
+    s[1] = keel::to_ud(g, ud);
+    s[2] = keel::predict(sq, f, q);
+    s[3] = keel::predict(ud, f, q);
+    s[4] = keel::predict(sq, f, b, u, q);
+    s[5] = keel::predict(ud, f, b, u, q);
+    s[6] = keel::correct(sq, h, r, z).status;
+    s[7] = keel::correct(ud, h, r, z).status;
+    s[8] = keel::correct_sequential(sq, h, rd, z).status;
+    s[9] = keel::correct_sequential(ud, h, rd, z).status;
+    s[10] = keel::to_gaussian(sq, g);
+    s[11] = keel::to_gaussian(ud, g);
+    s[12] = keel::to_sqrt(ud, sq);
+    s[13] = keel::to_ud(sq, ud);
+    nees_sum = keel::nees(sq, Eigen::Matrix<T, 6, 1>::Constant(z(0))) + keel::nees(ud, Eigen::Matrix<T, 6, 1>::Zero());
+    // gated and failure paths
+    s[14] = keel::correct(sq, h, r, z, keel::Gate<T>{T(0)}).status;
+    s[15] = keel::correct(ud, h, r, z, keel::Gate<T>{T(0)}).status;
+    s[16] = keel::correct_sequential(sq, h, rd, z, keel::Gate<T>{T(0)}).status;
+    s[17] = keel::correct_sequential(ud, h, rd, z, keel::Gate<T>{T(0)}).status;
+    s[18] = keel::correct(sq, h, (-r).eval(), z).status;
+    s[19] = keel::correct(ud, h, (-r).eval(), z).status;
+    s[20] = keel::predict(sq, f, (-q).eval());
+    s[21] = keel::predict(ud, f, (-q).eval());
+  });
+  CHECK(n == 0);
+  for (int i = 0; i < 14; ++i) CHECK(s[i] == keel::Status::ok);
+  for (int i = 14; i < 18; ++i) CHECK(s[i] == keel::Status::gated);
+  for (int i = 18; i < 22; ++i) CHECK(s[i] == keel::Status::negative_variance);
+  CHECK(nees_sum >= T(0));
+}

@@ -38,6 +38,31 @@ template <typename G>
 auto same_bits(const G& a, const G& b) -> decltype(a.mean, a.cov, bool()) {
   return same_bits(a.mean, b.mean) && same_bits(a.cov, b.cov);
 }
+template <typename G>
+auto same_bits(const G& a, const G& b) -> decltype(a.mean, a.sqrt_cov, bool()) {
+  return same_bits(a.mean, b.mean) && same_bits(a.sqrt_cov, b.sqrt_cov);
+}
+template <typename G>
+auto same_bits(const G& a, const G& b) -> decltype(a.mean, a.u, a.d, bool()) {
+  return same_bits(a.mean, b.mean) && same_bits(a.u, b.u) && same_bits(a.d, b.d);
+}
+
+/// The covariance an estimate stands for, formed in double from its factors (exact products of the stored
+/// values up to double rounding, so comparisons see the factor's own error, not a float re-rounding).
+template <typename G>
+auto cov_in_double(const G& e) -> decltype(e.cov, Eigen::Matrix<double, G::dim, G::dim>()) {
+  return e.cov.template cast<double>();
+}
+template <typename G>
+auto cov_in_double(const G& e) -> decltype(e.sqrt_cov, Eigen::Matrix<double, G::dim, G::dim>()) {
+  const Eigen::Matrix<double, G::dim, G::dim> l = e.sqrt_cov.template cast<double>();
+  return l * l.transpose();
+}
+template <typename G>
+auto cov_in_double(const G& e) -> decltype(e.u, e.d, Eigen::Matrix<double, G::dim, G::dim>()) {
+  const Eigen::Matrix<double, G::dim, G::dim> u = e.u.template cast<double>();
+  return u * e.d.template cast<double>().asDiagonal() * u.transpose();
+}
 
 /// A random symmetric positive-definite matrix lo·I + (hi − lo)·A Aᵀ / N with A standard normal (seeded).
 /// Its eigenvalues lie in [lo, lo + (hi − lo)·λmax(AAᵀ)/N], and λmax(AAᵀ)/N ≤ (1 + 1)² = 4 with overwhelming

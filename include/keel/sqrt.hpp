@@ -9,6 +9,7 @@
 /// diverges (Kaminski, Bryson & Schmidt, "Discrete square root filtering: a survey of current techniques", 1971).
 /// Same rules as every kernel: noexcept, heap-free, `est` unchanged on any non-ok Status.
 
+#include <limits>
 #include <type_traits>
 
 #include <Eigen/Core>
@@ -135,8 +136,7 @@ template <typename T, int N, typename DH, typename DR, typename DZ>
   }
   const Eigen::Matrix<T, M, M> se = pre.template topLeftCorner<M, M>().transpose();
   for (int i = 0; i < M; ++i) {
-    // Same relative floor as the Cholesky pivot of S in the conventional filter.
-    if (!(se(i, i) * se(i, i) > detail::pivot_floor_factor<T, M>() * inn.cov(i, i))) {
+    if (!(se(i, i) * se(i, i) > detail::factored_floor_factor<T, M>() * inn.cov(i, i))) {
       inn.status = Status::not_positive_definite;
       return inn;
     }
@@ -208,7 +208,7 @@ template <typename T, int N, typename DH, typename DR, typename DZ>
   for (int i = 0; i < M; ++i) {
     phi.noalias() = s.transpose() * hm.row(i).transpose();
     const T sv = phi.squaredNorm() + r(i);
-    if (!(sv > detail::pivot_floor_factor<T, M>() * inn.cov(i, i)) || !detail::is_finite(sv)) {
+    if (!(sv > detail::factored_floor_factor<T, M>() * inn.cov(i, i)) || !detail::is_finite(sv)) {
       inn.status = detail::is_finite(sv) ? Status::not_positive_definite : Status::non_finite;
       return inn;
     }
@@ -263,6 +263,19 @@ template <typename T, int N>
   out.mean = in.mean;
   out.sqrt_cov = s;
   return Status::ok;
+}
+
+/// \brief NEES \f$ (x - \hat x)^T (S S^T)^{-1} (x - \hat x) = \|S^{-1}(x - \hat x)\|^2 \f$ of a square-root
+/// estimate against the true state (simulation studies); +infinity when S has a non-positive diagonal entry.
+template <typename T, int N, typename Derived>
+T nees(const SqrtGaussian<T, N>& est, const Eigen::MatrixBase<Derived>& truth) noexcept {
+  static_assert(detail::rows_v<Derived> == N && detail::cols_v<Derived> == 1,
+                "keel::nees: truth must be an N-vector, N the state dimension");
+  const Eigen::Matrix<T, N, N> s = detail::lower_part(est.sqrt_cov);
+  if (!(s.diagonal().minCoeff() > T(0))) return std::numeric_limits<T>::infinity();
+  Eigen::Matrix<T, N, 1> e = truth - est.mean;
+  detail::forward_substitute(s, e);
+  return e.squaredNorm();
 }
 
 }  // namespace keel

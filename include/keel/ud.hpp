@@ -8,6 +8,7 @@
 /// (Bierman, "Factorization Methods for Discrete Sequential Estimation", 1977). Same rules as every kernel:
 /// noexcept, heap-free, `est` unchanged on any non-ok Status.
 
+#include <limits>
 #include <type_traits>
 
 #include <Eigen/Core>
@@ -88,8 +89,8 @@ Status bierman_sweep(Eigen::Matrix<T, N, 1>& x, Eigen::Matrix<T, N, N>& u, Eigen
     T y = T(0);
     const T alpha = bierman_update(x, u, d, Eigen::Matrix<T, 1, N>(h.row(i)), r(i), z(i), y);
     if (!is_finite(alpha)) return Status::non_finite;
-    // Same relative floor as the Cholesky pivot of S in the conventional filter.
-    if (!(alpha > pivot_floor_factor<T, M>() * floor_scale(i))) return Status::not_positive_definite;
+    // α is a sum of non-negative terms (no cancellation): the factored-form floor applies.
+    if (!(alpha > factored_floor_factor<T, M>() * floor_scale(i))) return Status::not_positive_definite;
     nis += y * y / alpha;
   }
   if (!is_finite(nis) || !all_finite(x) || !all_finite(u) || !all_finite(d)) return Status::non_finite;
@@ -334,9 +335,11 @@ template <typename T, int N>
 
 /// \brief The UD estimate of a square-root one without forming the covariance: with J the reversal
 /// permutation, the lower factor L₂ of (J S)(J S)ᵀ gives the upper-triangular A = J L₂ J with A Aᵀ = S Sᵀ;
-/// then \f$ d_k = a_{kk}^2,\; U = A\,\mathrm{diag}(1/a_{kk}) \f$. \returns ok, non_finite, or
-/// not_positive_definite when some a_kk is zero while its column is not (S Sᵀ singular in a way a UD pair
-/// with unit columns cannot hold); `out` is written only on ok.
+/// then \f$ d_k = a_{kk}^2,\; U = A\,\mathrm{diag}(1/a_{kk}) \f$. When S Sᵀ is singular the triangularization
+/// (without column pivoting) may leave a zero a_kk above a nonzero column, which no unit column can hold; then
+/// the UD factorization of S Sᵀ is used instead (exact for such a semi-definite matrix, at the cost of squaring
+/// the condition number). \returns ok, non_finite, or not_positive_definite if rounding makes that S Sᵀ
+/// indefinite beyond the factorization's tolerance; `out` is written only on ok.
 template <typename T, int N>
 [[nodiscard]] Status to_ud(const SqrtGaussian<T, N>& in, UdGaussian<T, N>& out) noexcept {
   const Eigen::Matrix<T, N, N> s = detail::lower_part(in.sqrt_cov);
@@ -345,21 +348,42 @@ template <typename T, int N>
   const Eigen::Matrix<T, N, N> a = l2.reverse();  // J L₂ J: rows and columns reversed
   Eigen::Matrix<T, N, N> u = Eigen::Matrix<T, N, N>::Identity();
   Eigen::Matrix<T, N, 1> d;
+  bool degenerate = false;
   for (int k = 0; k < N; ++k) {
     const T akk = a(k, k);
     d(k) = akk * akk;
     if (akk > T(0)) {
       for (int i = 0; i < k; ++i) u(i, k) = a(i, k) / akk;
     } else {
-      for (int i = 0; i < k; ++i)
-        if (a(i, k) != T(0)) return Status::not_positive_definite;
+      for (int i = 0; i < k; ++i) degenerate = degenerate || a(i, k) != T(0);
     }
+  }
+  if (degenerate) {
+    Eigen::Matrix<T, N, N> p;
+    p.noalias() = s.lazyProduct(s.transpose());
+    if (!detail::ud_factor(p, u, d)) return detail::all_finite(p) ? Status::not_positive_definite : Status::non_finite;
   }
   if (!detail::all_finite(u) || !detail::all_finite(d)) return Status::non_finite;
   out.mean = in.mean;
   out.u = u;
   out.d = d;
   return Status::ok;
+}
+
+/// \brief NEES \f$ e^T (U D U^T)^{-1} e = \sum_i v_i^2 / d_i \f$ with \f$ U v = e = x - \hat x \f$ of a UD
+/// estimate against the true state (simulation studies); +infinity when some d_i is not positive.
+template <typename T, int N, typename Derived>
+T nees(const UdGaussian<T, N>& est, const Eigen::MatrixBase<Derived>& truth) noexcept {
+  static_assert(detail::rows_v<Derived> == N && detail::cols_v<Derived> == 1,
+                "keel::nees: truth must be an N-vector, N the state dimension");
+  if (!(est.d.minCoeff() > T(0))) return std::numeric_limits<T>::infinity();
+  Eigen::Matrix<T, N, 1> v = truth - est.mean;
+  T sum = T(0);
+  for (int i = N - 1; i >= 0; --i) {
+    for (int k = i + 1; k < N; ++k) v(i) -= est.u(i, k) * v(k);
+    sum += v(i) * v(i) / est.d(i);
+  }
+  return sum;
 }
 
 }  // namespace keel

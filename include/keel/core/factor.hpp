@@ -17,6 +17,16 @@ namespace keel::detail {
 /// zero too, to the same scale: \f$ s_{ij}^2 \le n\varepsilon\, a_{jj} a_{ii} \f$ (the 2×2 minor
 /// \f$ [d_j, s_{ij}; s_{ij}, a_{ii}] \f$ must not be indefinite beyond rounding). A pivot below
 /// \f$ -n\varepsilon a_{jj} \f$ means the matrix is indefinite.
+/// \brief Floor on a *squared* pivot that a factored form computed without squaring (a diagonal of S_e, or a
+/// sum of non-negative terms as in Bierman's update): the factor carries the standard deviation, accurate to
+/// rounding relative to the square root of the scale, so the test is \f$ \sigma > n\varepsilon\sqrt{s} \f$,
+/// i.e. \f$ \sigma^2 > (n\varepsilon)^2 s \f$ — the conventional floor \f$ n\varepsilon s \f$ would reject
+/// well-determined updates that only the factored forms can compute (Dyer & McReynolds' example).
+template <typename T, int N>
+constexpr T factored_floor_factor() noexcept {
+  return pivot_floor_factor<T, N>() * pivot_floor_factor<T, N>();
+}
+
 enum class Pivot { positive, zero, indefinite };
 
 template <typename T, int N>
