@@ -1,7 +1,8 @@
 #!/usr/bin/env python3
 """Runs keel_bench with repetitions and prints the Markdown table of the README's performance section:
 median ns per kf_step, keel's Joseph step against each baseline (ratios from one run), effective GFLOP/s from the
-naive flop count (bench/problem.hpp) and its share of the GEMM peak measured in the same run.
+naive flop count (bench/problem.hpp) and its share of the GEMM peak measured in the same run; then the factored
+forms (square root, UD) against the Joseph step.
 Usage: bench/report.py [path/to/keel_bench] [repetitions]"""
 import json
 import subprocess
@@ -33,3 +34,13 @@ for sc in ("float", "double"):
               f"| {g('loops_baseline')['real_time'] / j:.2f}× | {g('dynamic_baseline')['real_time'] / j:.2f}× "
               f"| {g('joseph')['flops'] / 1e9:.1f} ({100 * g('joseph')['flops'] / peak:.0f}%) |")
     print(f"| GEMM 256×256 | {sc} | peak {peak / 1e9:.1f} GFLOP/s | | | | | | | |")
+print()
+print("| size | scalar | joseph ns | sqrt ns | sqrt_sequential ns | ud ns | sqrt / joseph | sqrt_sequential / joseph "
+      "| ud / joseph |")
+print("|---|---|---|---|---|---|---|---|---|")
+for sc in ("float", "double"):
+    for sz in sizes:
+        t = lambda v: med[f"kf_step/{v}/{sc}/{sz}"]["real_time"]
+        j = t("joseph")
+        print(f"| {sz} | {sc} | {j:.0f} | {t('sqrt'):.0f} | {t('sqrt_sequential'):.0f} | {t('ud'):.0f} "
+              f"| {t('sqrt') / j:.2f}× | {t('sqrt_sequential') / j:.2f}× | {t('ud') / j:.2f}× |")

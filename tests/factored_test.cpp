@@ -147,20 +147,24 @@ TEST_CASE_TEMPLATE("the gate rejects in every form alike and leaves the factors 
   CHECK(ib.nis > gate.threshold);
 }
 
-TEST_CASE_TEMPLATE("Givens re-triangularization after a rank-1 change", T, float, double) {
-  // L' L'ᵀ = (L + w uᵀ)(L + w uᵀ)ᵀ, L' lower with a non-negative diagonal (Golub & Van Loan, 2013, sec. 6.5.1).
+TEST_CASE_TEMPLATE("triangular Potter update equals P − b bᵀ / s", T, float, double) {
+  // S' S'ᵀ = P − b bᵀ/s with φ = Sᵀh, s = φᵀφ + r, b = Sφ (the scalar Kalman covariance update, Kalman 1960);
+  // S' lower-triangular with a non-negative diagonal. Also r = 0 (a perfect measurement: S' singular).
   std::mt19937 rng(21);
   for (int trial = 0; trial < 20; ++trial) {
     Eigen::Matrix<T, 7, 7> l = random_spd<T, 7>(rng);
     REQUIRE(keel::detail::cholesky_in_place(l));
-    const Eigen::Matrix<T, 7, 1> u = random_matrix<T, 7, 1>(rng);
-    const Eigen::Matrix<T, 7, 1> w = random_matrix<T, 7, 1>(rng, 0.3);
-    const Eigen::Matrix<double, 7, 7> a =
-        l.template cast<double>() + w.template cast<double>() * u.template cast<double>().transpose();
-    keel::detail::lower_rank1_retriangularize(l, u, w);
+    const Eigen::Matrix<T, 1, 7> h = random_matrix<T, 1, 7>(rng);
+    const T r = trial % 5 == 0 ? T(0) : static_cast<T>(0.1 + 0.1 * trial);
+    const Eigen::Matrix<T, 7, 1> phi = l.transpose() * h.transpose();
+    const T s = phi.squaredNorm() + r;
+    const Eigen::Matrix<double, 7, 7> ld0 = l.template cast<double>();
+    const Eigen::Matrix<double, 7, 1> b = ld0 * phi.template cast<double>();
+    const Eigen::Matrix<double, 7, 7> expected = ld0 * ld0.transpose() - b * b.transpose() / double(s);
+    keel::detail::potter_triangular(l, phi, s, r);
     const Eigen::Matrix<double, 7, 7> ld = l.template cast<double>();
-    // 2(N−1) rotations of each entry, O(N) roundings each, on a factor with κ ≤ 7: 1e3·ε.
-    CHECK(rel_error((ld * ld.transpose()).eval(), (a * a.transpose()).eval()) < double(eps_times<T>(1e3)));
+    // N rotations per entry, O(1) roundings each, on factors with κ ≤ 7 (random_spd): 1e3·ε relative to P.
+    CHECK(rel_error((ld * ld.transpose()).eval(), expected) < double(eps_times<T>(1e3)));
     for (int j = 0; j < 7; ++j) {
       CHECK(l(j, j) >= T(0));
       for (int i = 0; i < j; ++i) CHECK(l(i, j) == T(0));

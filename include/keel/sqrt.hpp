@@ -47,10 +47,11 @@ Status check_sqrt_inputs(const SqrtGaussian<T, N>& est, const Eigen::Matrix<T, N
 }  // namespace detail
 
 /// \brief Square-root time update by the QR array algorithm: the pre-array \f$ A = [S^T F^T;\ L_Q^T] \f$
-/// (2N×N, \f$ L_Q L_Q^T = Q \f$) is triangularized by Householder reflections, \f$ A = \Theta [R; 0] \f$, and
-/// \f$ S^- = R^T \f$, since \f$ R^T R = A^T A = F S S^T F^T + Q \f$; \f$ x^- = F x \f$ (Kaminski, Bryson &
-/// Schmidt, 1971; Golub & Van Loan, "Matrix Computations", 2013, sec. 5.2). Q may be semi-definite; its factor
-/// is computed here by a semi-definite Cholesky. The reflectors skip the known zeros of the pre-array.
+/// (2N×N, \f$ L_Q L_Q^T = Q \f$) is triangularized by an orthogonal transformation, \f$ A = \Theta [R; 0] \f$,
+/// and \f$ S^- = R^T \f$, since \f$ R^T R = A^T A = F S S^T F^T + Q \f$; \f$ x^- = F x \f$ (Kaminski, Bryson &
+/// Schmidt, 1971). The triangularization is modified Gram–Schmidt on the columns of A (core/factor.hpp), as
+/// accurate for R as Householder QR and vectorized over whole columns. Q may be semi-definite; its factor is
+/// computed here by a semi-definite Cholesky.
 /// \returns ok, non_finite, negative_variance (Q has a negative diagonal entry) or not_positive_definite
 /// (Q indefinite); on any non-ok status `est` is unchanged.
 template <typename T, int N, typename DF, typename DQ>
@@ -68,14 +69,13 @@ template <typename T, int N, typename DF, typename DQ>
   if (!detail::all_finite(est.mean) || !detail::all_finite(s) || !detail::all_finite(fm) || !detail::all_finite(lq))
     return Status::non_finite;
   if (!detail::diagonal_nonnegative(lq)) return Status::negative_variance;
-  if (!detail::psd_cholesky_in_place(lq)) return Status::not_positive_definite;
+  if (!detail::psd_factor_in_place(lq)) return Status::not_positive_definite;
   Eigen::Matrix<T, 2 * N, N> pre;
   pre.template topRows<N>().noalias() = s.transpose().lazyProduct(fm.transpose());
   pre.template bottomRows<N>() = lq.transpose();
-  detail::triangularize_stacked<T, N, N>(pre);
+  const Eigen::Matrix<T, N, N> s_next = detail::gram_schmidt_lower(pre);
   Eigen::Matrix<T, N, 1> x;
   x.noalias() = fm * est.mean;
-  const Eigen::Matrix<T, N, N> s_next = pre.template topRows<N>().transpose();
   if (!detail::all_finite(x) || !detail::all_finite(s_next)) return Status::non_finite;
   est.mean = x;
   est.sqrt_cov = s_next;
@@ -88,8 +88,8 @@ template <typename T, int N, typename DF, typename DQ>
 /// \f$ \Theta A = \begin{bmatrix} S_e^T & \bar K^T \\ 0 & S^{+T} \end{bmatrix} \f$, which gives
 /// \f$ S_e S_e^T = HPH^T + R \f$, \f$ \bar K = P H^T S_e^{-T} \f$ and \f$ S^+ S^{+T} = P - \bar K \bar K^T \f$
 /// (compare AᵀA blockwise). Then \f$ w = S_e^{-1} y,\; x^+ = x + \bar K w,\; \mathrm{NIS} = \|w\|^2 \f$:
-/// no inverse, no squared condition number. Each of the first M reflectors touches one top row and the N
-/// bottom rows (the rest of its column is known to be zero); the last N reduce the full N×N block.
+/// no inverse, no squared condition number. The triangularization is modified Gram–Schmidt on the columns of
+/// A, which yields the lower-triangular \f$ \begin{bmatrix} S_e & 0 \\ \bar K & S^+ \end{bmatrix} \f$ directly.
 /// \param gate measurements whose NIS exceeds the gate's threshold are rejected (Status::gated).
 /// \returns Innovation with status ok, non_finite, negative_variance (R), not_positive_definite (R indefinite,
 /// or HPHᵀ + R not positive-definite) or gated; on any non-ok status `est` is unchanged.
@@ -128,13 +128,12 @@ template <typename T, int N, typename DH, typename DR, typename DZ>
   pre.template topRightCorner<M, N>().setZero();
   pre.template bottomLeftCorner<N, M>() = hs.transpose();
   pre.template bottomRightCorner<N, N>() = s.transpose();
-  for (int k = 0; k < M; ++k) detail::reflect_column(pre, k, k + 1, k + 1, M, M + N);  // row k and the N bottom rows
-  for (int k = M; k < M + N; ++k) detail::reflect_column(pre, k, k + 1, M + N, 0, 0);
-  if (!detail::all_finite(pre)) {
+  const Eigen::Matrix<T, M + N, M + N> post = detail::gram_schmidt_lower(pre);
+  if (!detail::all_finite(post)) {
     inn.status = Status::non_finite;
     return inn;
   }
-  const Eigen::Matrix<T, M, M> se = pre.template topLeftCorner<M, M>().transpose();
+  const Eigen::Matrix<T, M, M> se = post.template topLeftCorner<M, M>();
   for (int i = 0; i < M; ++i) {
     if (!(se(i, i) * se(i, i) > detail::factored_floor_factor<T, M>() * inn.cov(i, i))) {
       inn.status = Status::not_positive_definite;
@@ -153,8 +152,8 @@ template <typename T, int N, typename DH, typename DR, typename DZ>
     return inn;
   }
   Eigen::Matrix<T, N, 1> x = est.mean;
-  x.noalias() += pre.template topRightCorner<M, N>().transpose() * w;
-  const Eigen::Matrix<T, N, N> s_next = pre.template bottomRightCorner<N, N>().transpose();
+  x.noalias() += post.template bottomLeftCorner<N, M>() * w;
+  const Eigen::Matrix<T, N, N> s_next = post.template bottomRightCorner<N, N>();
   if (!detail::all_finite(x)) {
     inn.status = Status::non_finite;
     return inn;
@@ -170,8 +169,8 @@ template <typename T, int N, typename DH, typename DR, typename DZ>
 /// ch. V): with \f$ \varphi = S^T h^T,\; s = \varphi^T\varphi + r,\; b = S\varphi = P h^T \f$,
 /// \f$ x \leftarrow x + b\,(z - hx)/s \f$ and \f$ S \leftarrow S\,(I - \gamma\varphi\varphi^T / s) \f$ with
 /// \f$ \gamma = 1/(1 + \sqrt{r/s}) \f$, for which \f$ (I - \gamma\varphi\varphi^T/s)^2 = I - \varphi\varphi^T/s \f$.
-/// Potter's factor is no longer triangular; it is a rank-1 change of S, which 2(N−1) Givens rotations restore
-/// to lower-triangular form in O(N²) (core/factor.hpp), so the whole update stays orthogonal and O(N²) per row.
+/// Potter's factor is not triangular; keel computes the lower-triangular factor of the same product by N
+/// orthogonal rotations built from φ and √(r/s) alone (detail::potter_triangular), O(N²) per row.
 /// NIS, residual, innovation covariance and gating mean the same as in the conventional correct_sequential.
 /// \returns Innovation with status ok, non_finite, negative_variance (r), not_positive_definite (a scalar
 /// innovation variance at or below rounding level) or gated; on any non-ok status `est` is unchanged.
@@ -214,11 +213,9 @@ template <typename T, int N, typename DH, typename DR, typename DZ>
     }
     b.noalias() = s * phi;
     const T yi = zm(i) - hm.row(i).dot(x);
-    const T a = T(1) / sv;
-    const T gamma = T(1) / (T(1) + std::sqrt(r(i) * a));
-    x += (a * yi) * b;
-    nis += yi * yi * a;
-    detail::lower_rank1_retriangularize(s, phi, (-a * gamma * b).eval());
+    x += (yi / sv) * b;
+    nis += yi * yi / sv;
+    detail::potter_triangular(s, phi, sv, r(i));
   }
   inn.nis = nis;
   if (!detail::is_finite(nis) || !detail::all_finite(x) || !detail::all_finite(s)) {

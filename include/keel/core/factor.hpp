@@ -1,8 +1,8 @@
 #pragma once
 /// \file
 /// \brief Factorization helpers for the square-root and UD filters (namespace keel::detail; not for direct use):
-/// a semi-definite Cholesky, a UD factorization, a structure-exploiting Householder triangularization and
-/// a Givens re-triangularization after a rank-1 change. Fixed-size, heap-free, noexcept.
+/// a semi-definite Cholesky, a UD factorization, an orthogonal triangularization (modified Gram–Schmidt) and
+/// the triangular form of Potter's scalar update. Fixed-size, heap-free, noexcept.
 
 #include <cmath>
 
@@ -76,6 +76,25 @@ bool psd_cholesky_in_place(Eigen::Matrix<T, N, N>& a) noexcept {
   return true;
 }
 
+/// \brief psd_cholesky_in_place with a shortcut for the common diagonal case (process noise is very often
+/// diagonal): the factor of a diagonal matrix is the square root of its diagonal, no elimination needed.
+template <typename T, int N>
+bool psd_factor_in_place(Eigen::Matrix<T, N, N>& a) noexcept {
+  bool diagonal = true;
+  for (int j = 0; j < N && diagonal; ++j)
+    for (int i = 0; i < N; ++i)
+      if (i != j && a(i, j) != T(0)) {
+        diagonal = false;
+        break;
+      }
+  if (!diagonal) return psd_cholesky_in_place(a);
+  for (int j = 0; j < N; ++j) {
+    if (!(a(j, j) >= T(0)) || !is_finite(a(j, j))) return false;
+    a(j, j) = std::sqrt(a(j, j));
+  }
+  return true;
+}
+
 /// \brief UD factorization P = U diag(d) Uᵀ of a symmetric positive semi-definite P, U unit upper-triangular
 /// (Bierman, "Factorization Methods for Discrete Sequential Estimation", 1977, ch. III). Columns are taken
 /// from the last to the first: \f$ d_j = p_{jj} - \sum_{k>j} d_k u_{jk}^2,\;
@@ -104,112 +123,77 @@ bool ud_factor(const Eigen::Matrix<T, N, N>& p, Eigen::Matrix<T, N, N>& u, Eigen
   return true;
 }
 
-/// \brief One Householder step (Golub & Van Loan, "Matrix Computations", 4th ed., 2013, alg. 5.1.1): zeroes
-/// column k of `a` in the rows [b1, e1) ∪ [b2, e2) against the pivot a(k, k) and applies the reflector to
-/// columns k+1.. of those rows. All other rows are assumed zero in column k and are not touched, which is how
-/// callers exploit the structure of their pre-arrays. Afterwards a(k, k) ≥ 0 (the sign convention of every
-/// factor keel returns: the triangular factor has a non-negative diagonal).
-template <typename Mat>
-void reflect_column(Mat& a, int k, int b1, int e1, int b2, int e2) noexcept {
-  using T = typename Mat::Scalar;
-  const int cols = static_cast<int>(a.cols());
-  T sigma = T(0);
-  for (int i = b1; i < e1; ++i) sigma += a(i, k) * a(i, k);
-  for (int i = b2; i < e2; ++i) sigma += a(i, k) * a(i, k);
-  const T x0 = a(k, k);
-  if (sigma == T(0)) {
-    if (x0 < T(0))
-      for (int j = k; j < cols; ++j) a(k, j) = -a(k, j);
-    return;
+/// \brief The lower-triangular L (non-negative diagonal) with \f$ L L^T = W W^T \f$ for an N×R matrix W given by
+/// its transpose `wt` (R×N, so that each row w_k of W is a contiguous column), by modified Gram–Schmidt on the
+/// rows of W: for k = 0..N−1, \f$ l_{kk} = \|w_k\|,\; q_k = w_k / l_{kk},\; l_{jk} = w_j \cdot q_k,\;
+/// w_j \leftarrow w_j - l_{jk} q_k \f$ (j > k), i.e. \f$ W = L Q^T \f$ with orthonormal rows of Qᵀ. MGS computes
+/// this triangular factor as accurately as Householder QR does (it is numerically Householder QR of the
+/// augmented matrix [0; Wᵀ]: Björck & Paige, "Loss and recapture of orthogonality in the modified Gram–Schmidt
+/// algorithm", 1992); only Q loses orthogonality, and Q is never used. Every operation is on a whole fixed-size
+/// column, so it vectorizes. A zero row (rank deficiency) gives a zero column of L. `wt` is overwritten.
+template <typename T, int R, int N>
+Eigen::Matrix<T, N, N> gram_schmidt_lower(Eigen::Matrix<T, R, N>& wt) noexcept {
+  Eigen::Matrix<T, N, N> l = Eigen::Matrix<T, N, N>::Zero();
+  for (int k = 0; k < N; ++k) {
+    const T norm = wt.col(k).norm();
+    l(k, k) = norm;
+    if (!(norm > T(0))) continue;
+    wt.col(k) *= T(1) / norm;
+    for (int j = k + 1; j < N; ++j) {
+      const T ljk = wt.col(j).dot(wt.col(k));
+      l(j, k) = ljk;
+      wt.col(j) -= ljk * wt.col(k);
+    }
   }
-  const T alpha = std::sqrt(x0 * x0 + sigma);
-  // H = I − τ v vᵀ with v = [1, x_rest / v0] maps x to α e₁, α > 0; v0 is formed without cancellation.
-  const T v0 = x0 <= T(0) ? x0 - alpha : -sigma / (x0 + alpha);
-  const T tau = T(2) * v0 * v0 / (sigma + v0 * v0);
-  const T inv_v0 = T(1) / v0;
-  for (int i = b1; i < e1; ++i) a(i, k) *= inv_v0;
-  for (int i = b2; i < e2; ++i) a(i, k) *= inv_v0;
-  for (int j = k + 1; j < cols; ++j) {
-    T w = a(k, j);
-    for (int i = b1; i < e1; ++i) w += a(i, k) * a(i, j);
-    for (int i = b2; i < e2; ++i) w += a(i, k) * a(i, j);
-    w *= tau;
-    a(k, j) -= w;
-    for (int i = b1; i < e1; ++i) a(i, j) -= w * a(i, k);
-    for (int i = b2; i < e2; ++i) a(i, j) -= w * a(i, k);
-  }
-  a(k, k) = alpha;
-  for (int i = b1; i < e1; ++i) a(i, k) = T(0);
-  for (int i = b2; i < e2; ++i) a(i, k) = T(0);
+  return l;
 }
 
-/// \brief Householder triangularization of a stacked pre-array: on entry `a` is the (N+K)×N array whose top
-/// N rows are full and whose bottom K rows are upper triangular (bottom row i is zero left of column i); on
-/// return its top N×N block is the upper-triangular R with RᵀR = AᵀA and a non-negative diagonal, and the rest
-/// is zero. The reflector of column k touches only top rows k..N−1 and bottom rows 0..min(k, K−1), and the
-/// bottom block stays upper triangular in the columns not yet reduced: about 2N³ flops for K = N instead of
-/// 10N³/3 for a dense QR.
-template <typename T, int N, int K>
-void triangularize_stacked(Eigen::Matrix<T, N + K, N>& a) noexcept {
-  for (int k = 0; k < N; ++k) reflect_column(a, k, k + 1, N, N, N + (k < K ? k + 1 : K));
-}
-
-/// \brief Givens rotation [c s; −s c] taking (a, b) to (r, 0), r = hypot(a, b) ≥ 0.
-template <typename T>
-void givens(T a, T b, T& c, T& s) noexcept {
-  const T r = std::hypot(a, b);
-  if (r == T(0)) {
-    c = T(1);
-    s = T(0);
-  } else {
-    c = a / r;
-    s = b / r;
-  }
-}
-
-/// \brief Replaces the lower-triangular L by the lower-triangular L' with \f$ L'L'^T = (L + w\,u^T)(L + w\,u^T)^T \f$
-/// using 2(N−1) Givens rotations on column pairs, O(N²): the column form of the QR update of Golub & Van Loan
-/// (2013, sec. 6.5.1) applied to \f$ (L + w u^T)^T = L^T + u w^T \f$. First rotations in planes (k−1, k),
-/// k = N−1..1, reduce u to ‖u‖e₁ (L becomes upper-Hessenberg-transposed), then ‖u‖·w is added to column 0,
-/// and rotations in planes (k, k+1) restore the lower-triangular form. Diagonal made non-negative.
+/// \brief The triangular form of Potter's scalar update: replaces the lower-triangular S (non-negative diagonal)
+/// by the lower-triangular S' with \f$ S'S'^T = S (I - \varphi\varphi^T/s) S^T = P - b b^T/s \f$, where
+/// \f$ \varphi = S^T h^T,\ s = \varphi^T\varphi + r,\ b = S\varphi \f$ (Potter & Stern, 1963).
+/// Potter's own factor \f$ S(I - \gamma\varphi\varphi^T/s) \f$ is not triangular; the equivalent orthogonal
+/// re-triangularization is LINPACK's Cholesky downdate (Dongarra, Bunch, Moler & Stewart, "LINPACK Users' Guide",
+/// 1979, ch. 10, routine xCHDD) with its two sensitive quantities known here exactly, without cancellation: the
+/// solution of S p = b/√s is p = φ/√s, and \f$ \alpha = \sqrt{1 - \|p\|^2} = \sqrt{r/s} \f$. Rotations
+/// taking (α, p_i) to (‖·‖, 0) for i = N−1..0 are computed first (a short scalar chain), then applied to the
+/// columns of S, each a contiguous vector operation: O(N²), N square roots. r = 0 is allowed (S' singular).
 template <typename T, int N>
-void lower_rank1_retriangularize(Eigen::Matrix<T, N, N>& l, Eigen::Matrix<T, N, 1> u,
-                                 const Eigen::Matrix<T, N, 1>& w) noexcept {
-  T c = T(1);
-  T s = T(0);
-  for (int k = N - 1; k >= 1; --k) {
-    givens(u(k - 1), u(k), c, s);
-    u(k - 1) = c * u(k - 1) + s * u(k);
-    u(k) = T(0);
-    for (int i = k - 1; i < N; ++i) {
-      const T a = l(i, k - 1);
-      const T b = l(i, k);
-      l(i, k - 1) = c * a + s * b;
-      l(i, k) = -s * a + c * b;
+void potter_triangular(Eigen::Matrix<T, N, N>& l, const Eigen::Matrix<T, N, 1>& phi, T s, T r) noexcept {
+  const T inv_root_s = T(1) / std::sqrt(s);
+  T alpha = std::sqrt(r / s);
+  Eigen::Matrix<T, N, 1> c;
+  Eigen::Matrix<T, N, 1> sn;
+  for (int i = N - 1; i >= 0; --i) {
+    const T pi = phi(i) * inv_root_s;
+    const T norm = std::sqrt(alpha * alpha + pi * pi);  // ≤ 1: α² + ‖p‖² = 1, no overflow
+    if (norm > T(0)) {
+      c(i) = alpha / norm;
+      sn(i) = pi / norm;
+    } else {
+      c(i) = T(1);
+      sn(i) = T(0);
+    }
+    alpha = norm;
+  }
+  Eigen::Matrix<T, N, 1> acc = Eigen::Matrix<T, N, 1>::Zero();
+  for (int i = N - 1; i >= 0; --i) {
+    const int len = N - i;
+    auto col = l.col(i).tail(len);
+    auto a = acc.tail(len);
+    for (int j = 0; j < len; ++j) {
+      const T t = c(i) * a(j) + sn(i) * col(j);
+      col(j) = c(i) * col(j) - sn(i) * a(j);
+      a(j) = t;
     }
   }
-  l.col(0) += u(0) * w;
-  for (int k = 0; k + 1 < N; ++k) {
-    givens(l(k, k), l(k, k + 1), c, s);
-    for (int i = k; i < N; ++i) {
-      const T a = l(i, k);
-      const T b = l(i, k + 1);
-      l(i, k) = c * a + s * b;
-      l(i, k + 1) = -s * a + c * b;
-    }
-    l(k, k + 1) = T(0);
-  }
-  for (int k = 0; k < N; ++k)
-    if (l(k, k) < T(0)) l.col(k) *= T(-1);
 }
 
-/// \brief The lower-triangular L with L Lᵀ = A Aᵀ for a square A, by Householder triangularization of Aᵀ
-/// (Aᵀ = Q R gives A Aᵀ = Rᵀ R, L = Rᵀ). Orthogonal, so it keeps the accuracy of the factor A.
+/// \brief The lower-triangular L with L Lᵀ = A Aᵀ for a square A, by orthogonal triangularization (above), so
+/// it keeps the accuracy of the factor A instead of squaring its condition number.
 template <typename T, int N>
 Eigen::Matrix<T, N, N> lower_factor_of(const Eigen::Matrix<T, N, N>& a) noexcept {
-  Eigen::Matrix<T, N + 0, N> pre = a.transpose();
-  triangularize_stacked<T, N, 0>(pre);
-  return pre.transpose();
+  Eigen::Matrix<T, N, N> wt = a.transpose();
+  return gram_schmidt_lower(wt);
 }
 
 }  // namespace keel::detail
