@@ -79,15 +79,16 @@ bool psd_cholesky_in_place(Eigen::Matrix<T, N, N>& a) noexcept {
 /// \brief psd_cholesky_in_place with a shortcut for the common diagonal case (process noise is very often
 /// diagonal): the factor of a diagonal matrix is the square root of its diagonal, no elimination needed.
 template <typename T, int N>
-bool psd_factor_in_place(Eigen::Matrix<T, N, N>& a) noexcept {
-  bool diagonal = true;
-  for (int j = 0; j < N && diagonal; ++j)
+bool is_diagonal(const Eigen::Matrix<T, N, N>& a) noexcept {
+  for (int j = 0; j < N; ++j)
     for (int i = 0; i < N; ++i)
-      if (i != j && a(i, j) != T(0)) {
-        diagonal = false;
-        break;
-      }
-  if (!diagonal) return psd_cholesky_in_place(a);
+      if (i != j && a(i, j) != T(0)) return false;
+  return true;
+}
+
+template <typename T, int N>
+bool psd_factor_in_place(Eigen::Matrix<T, N, N>& a) noexcept {
+  if (!is_diagonal(a)) return psd_cholesky_in_place(a);
   for (int j = 0; j < N; ++j) {
     if (!(a(j, j) >= T(0)) || !is_finite(a(j, j))) return false;
     a(j, j) = std::sqrt(a(j, j));
@@ -103,6 +104,10 @@ bool psd_factor_in_place(Eigen::Matrix<T, N, N>& a) noexcept {
 template <typename T, int N>
 bool ud_factor(const Eigen::Matrix<T, N, N>& p, Eigen::Matrix<T, N, N>& u, Eigen::Matrix<T, N, 1>& d) noexcept {
   u.setIdentity();
+  if (is_diagonal(p)) {  // the common diagonal process noise: U = I, d = diag(P)
+    d = p.diagonal();
+    return (d.array() >= T(0)).all() && all_finite(d);
+  }
   for (int j = N - 1; j >= 0; --j) {
     T dj = p(j, j);
     for (int k = j + 1; k < N; ++k) dj -= d(k) * u(j, k) * u(j, k);
