@@ -162,3 +162,33 @@ TEST_CASE_TEMPLATE("square-root and UD kernels and the conversions allocate noth
   for (int i = 18; i < 22; ++i) CHECK(s[i] == keel::Status::negative_variance);
   CHECK(nees_sum >= T(0));
 }
+
+TEST_CASE_TEMPLATE("expm and discretize allocate nothing", T, float, double) {
+  std::mt19937 rng(3);
+  const Eigen::Matrix<T, 4, 4> a = keel_test::random_matrix<T, 4, 4>(rng, 2.0);  // degree-13 branch with scaling
+  const Eigen::Matrix<T, 4, 4> qc = keel_test::random_spd<T, 4>(rng);
+  Eigen::Matrix<T, 4, 4> e;
+  keel::Status s = keel::Status::non_finite;
+  keel::DiscreteModel<T, 4> model;
+  const long n = allocations_in([&] {
+    s = keel::expm(a, e);
+    model = keel::discretize(a, qc, T(0.1));
+  });
+  CHECK(n == 0);
+  CHECK(s == keel::Status::ok);
+  CHECK(model.ok());
+}
+
+TEST_CASE_TEMPLATE("the RTS smoother allocates nothing", T, float, double) {
+  keel::Gaussian<T, 3> filtered[4];
+  keel::Gaussian<T, 3> predicted[3];
+  Eigen::Matrix<T, 3, 3> f[3];
+  for (int k = 0; k < 3; ++k) {
+    f[k] = Eigen::Matrix<T, 3, 3>::Identity();
+    predicted[k].cov *= T(2);
+  }
+  keel::Status s = keel::Status::non_finite;
+  const long n = allocations_in([&] { s = keel::rts_smooth(filtered, predicted, f, 4, filtered); });
+  CHECK(n == 0);
+  CHECK(s == keel::Status::ok);
+}
