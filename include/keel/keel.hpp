@@ -8,6 +8,8 @@
 #include "discretize.hpp"
 #include "gate.hpp"
 #include "linear.hpp"
+#include "models/kinematic.hpp"
+#include "models/planar.hpp"
 #include "smooth.hpp"
 #include "sqrt.hpp"
 #include "ud.hpp"
