@@ -179,5 +179,6 @@ void register_kf_step() {
 
 void register_float();
 void register_double();
+void register_nonlinear();  // nonlinear_step.cpp: ekf_step and ukf_step
 
 }  // namespace keel_bench

@@ -12,11 +12,10 @@
 
 #include <keel/keel.hpp>
 
+#include "alloc_probe.hpp"
 #include "support.hpp"
 
-namespace {
 std::atomic<long> g_allocations{0};
-}
 
 extern "C" {
 void* __libc_malloc(size_t);
@@ -46,17 +45,6 @@ void operator delete[](void* p) noexcept { std::free(p); }
 void operator delete(void* p, size_t) noexcept { std::free(p); }
 void operator delete[](void* p, size_t) noexcept { std::free(p); }
 
-namespace {
-/// Runs f with the guard armed and returns how many allocations happened inside.
-template <typename F>
-long allocations_in(F&& f) {
-  const long before = g_allocations.load();
-  Eigen::internal::set_is_malloc_allowed(false);
-  f();
-  Eigen::internal::set_is_malloc_allowed(true);
-  return g_allocations.load() - before;
-}
-}  // namespace
 
 TEST_CASE("the counting allocator sees allocations (the proof below can fail)") {
   CHECK(allocations_in([] {

@@ -78,12 +78,11 @@ void check_kinematic(double dt) {
 }  // namespace
 
 TEST_CASE_TEMPLATE("kinematic models: transition and both noise models", T, float, double) {
+  // One, two and three axes (the axes are independent blocks, checked equal below), both orders.
   for (double dt : {0.01, 0.5}) {
     check_kinematic<T, 1, 2>(dt);
-    check_kinematic<T, 2, 2>(dt);
     check_kinematic<T, 3, 2>(dt);
-    check_kinematic<T, 1, 3>(dt);
-    check_kinematic<T, 3, 3>(dt);
+    check_kinematic<T, 2, 3>(dt);
   }
 }
 

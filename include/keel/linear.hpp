@@ -70,17 +70,18 @@ Status apply_gain(Gaussian<T, N>& est, const Eigen::Matrix<T, M, N>& h, const Ei
   return Status::ok;
 }
 
-/// \brief The innovation of a linear correction: validates the inputs, forms y = z − Hx, PHᵀ, S = HPHᵀ + R and
-/// its Cholesky factor L, the NIS, and applies the gate. Status ok means "go on and apply a gain".
+/// \brief The innovation of a correction whose residual y is already formed (z − Hx for the linear filter,
+/// the model's residual(z, h(x)) for the EKF): validates the inputs, forms PHᵀ, S = HPHᵀ + R and its Cholesky
+/// factor L, the NIS, and applies the gate. Status ok means "go on and apply a gain".
 template <typename T, int N, int M>
-Innovation<T, M> innovate(const Gaussian<T, N>& est, const Eigen::Matrix<T, M, N>& h,
-                          const Eigen::Matrix<T, M, M>& r, const Eigen::Matrix<T, M, 1>& z, const Gate<T>& gate,
-                          Eigen::Matrix<T, N, M>& pht, Eigen::Matrix<T, M, M>& l) noexcept {
+Innovation<T, M> innovate_residual(const Gaussian<T, N>& est, const Eigen::Matrix<T, M, N>& h,
+                                   const Eigen::Matrix<T, M, M>& r, const Eigen::Matrix<T, M, 1>& y,
+                                   const Gate<T>& gate, Eigen::Matrix<T, N, M>& pht,
+                                   Eigen::Matrix<T, M, M>& l) noexcept {
   Innovation<T, M> inn;
-  inn.status = check_correction_inputs(est, h, r, z);
+  inn.status = check_correction_inputs(est, h, r, y);
   if (inn.status != Status::ok) return inn;
-  inn.residual = z;
-  inn.residual.noalias() -= h * est.mean;
+  inn.residual = y;
   pht.noalias() = est.cov.lazyProduct(h.transpose());
   inn.cov = r;
   inn.cov.noalias() += h.lazyProduct(pht);
@@ -99,6 +100,16 @@ Innovation<T, M> innovate(const Gaussian<T, N>& est, const Eigen::Matrix<T, M, N
     inn.status = Status::gated;
   }
   return inn;
+}
+
+/// \brief The innovation of a linear correction: y = z − Hx, then innovate_residual.
+template <typename T, int N, int M>
+Innovation<T, M> innovate(const Gaussian<T, N>& est, const Eigen::Matrix<T, M, N>& h,
+                          const Eigen::Matrix<T, M, M>& r, const Eigen::Matrix<T, M, 1>& z, const Gate<T>& gate,
+                          Eigen::Matrix<T, N, M>& pht, Eigen::Matrix<T, M, M>& l) noexcept {
+  Eigen::Matrix<T, M, 1> y = z;
+  y.noalias() -= h * est.mean;
+  return innovate_residual(est, h, r, y, gate, pht, l);
 }
 
 template <typename T, int N, typename DH, typename DR, typename DZ>

@@ -44,6 +44,72 @@ Status check_sqrt_inputs(const SqrtGaussian<T, N>& est, const Eigen::Matrix<T, N
   return Status::ok;
 }
 
+/// \brief The QR-array measurement update of `correct` with the residual y already formed (z − Hx, or the
+/// EKF's residual(z, h(x))).
+template <typename T, int N, int M>
+Innovation<T, M> sqrt_correct_residual(SqrtGaussian<T, N>& est, const Eigen::Matrix<T, M, N>& hm,
+                                       const Eigen::Matrix<T, M, M>& r, const Eigen::Matrix<T, M, 1>& y,
+                                       const Gate<T>& gate) noexcept {
+  Eigen::Matrix<T, M, M> lr = r;
+  const Eigen::Matrix<T, N, N> s = lower_part(est.sqrt_cov);
+  Innovation<T, M> inn;
+  inn.status = check_sqrt_inputs(est, s, hm, lr, y);
+  if (inn.status != Status::ok) return inn;
+  if (!diagonal_nonnegative(lr)) {
+    inn.status = Status::negative_variance;
+    return inn;
+  }
+  inn.cov = lr;  // R, before it is factored
+  if (!psd_cholesky_in_place(lr)) {
+    inn.status = Status::not_positive_definite;
+    return inn;
+  }
+  Eigen::Matrix<T, M, N> hs;
+  hs.noalias() = hm.lazyProduct(s);
+  inn.cov.noalias() += hs.lazyProduct(hs.transpose());
+  symmetrize(inn.cov);
+  inn.residual = y;
+
+  Eigen::Matrix<T, M + N, M + N> pre;
+  pre.template topLeftCorner<M, M>() = lr.transpose();
+  pre.template topRightCorner<M, N>().setZero();
+  pre.template bottomLeftCorner<N, M>() = hs.transpose();
+  pre.template bottomRightCorner<N, N>() = s.transpose();
+  const Eigen::Matrix<T, M + N, M + N> post = gram_schmidt_lower(pre);
+  if (!all_finite(post)) {
+    inn.status = Status::non_finite;
+    return inn;
+  }
+  const Eigen::Matrix<T, M, M> se = post.template topLeftCorner<M, M>();
+  for (int i = 0; i < M; ++i) {
+    if (!(se(i, i) * se(i, i) > factored_floor_factor<T, M>() * inn.cov(i, i))) {
+      inn.status = Status::not_positive_definite;
+      return inn;
+    }
+  }
+  Eigen::Matrix<T, M, 1> w = inn.residual;
+  forward_substitute(se, w);
+  inn.nis = w.squaredNorm();
+  if (!is_finite(inn.nis)) {
+    inn.status = Status::non_finite;
+    return inn;
+  }
+  if (!gate.accepts(inn.nis)) {
+    inn.status = Status::gated;
+    return inn;
+  }
+  Eigen::Matrix<T, N, 1> x = est.mean;
+  x.noalias() += post.template bottomLeftCorner<N, M>() * w;
+  if (!all_finite(x)) {
+    inn.status = Status::non_finite;
+    return inn;
+  }
+  est.mean = x;
+  est.sqrt_cov = post.template bottomRightCorner<N, N>();
+  inn.status = Status::ok;
+  return inn;
+}
+
 }  // namespace detail
 
 /// \brief Square-root time update by the QR array algorithm: the pre-array \f$ A = [S^T F^T;\ L_Q^T] \f$
@@ -101,67 +167,9 @@ template <typename T, int N, typename DH, typename DR, typename DZ>
   detail::check_correct_dims<T, N, DH, DR, DZ>();
   constexpr int M = detail::rows_v<DZ>;
   const Eigen::Matrix<T, M, N> hm = h;
-  const Eigen::Matrix<T, M, 1> zm = z;
-  Eigen::Matrix<T, M, M> lr = r;
-  const Eigen::Matrix<T, N, N> s = detail::lower_part(est.sqrt_cov);
-  Innovation<T, M> inn;
-  inn.status = detail::check_sqrt_inputs(est, s, hm, lr, zm);
-  if (inn.status != Status::ok) return inn;
-  if (!detail::diagonal_nonnegative(lr)) {
-    inn.status = Status::negative_variance;
-    return inn;
-  }
-  inn.cov = lr;  // R, before it is factored
-  if (!detail::psd_cholesky_in_place(lr)) {
-    inn.status = Status::not_positive_definite;
-    return inn;
-  }
-  Eigen::Matrix<T, M, N> hs;
-  hs.noalias() = hm.lazyProduct(s);
-  inn.cov.noalias() += hs.lazyProduct(hs.transpose());
-  detail::symmetrize(inn.cov);
-  inn.residual = zm;
-  inn.residual.noalias() -= hm * est.mean;
-
-  Eigen::Matrix<T, M + N, M + N> pre;
-  pre.template topLeftCorner<M, M>() = lr.transpose();
-  pre.template topRightCorner<M, N>().setZero();
-  pre.template bottomLeftCorner<N, M>() = hs.transpose();
-  pre.template bottomRightCorner<N, N>() = s.transpose();
-  const Eigen::Matrix<T, M + N, M + N> post = detail::gram_schmidt_lower(pre);
-  if (!detail::all_finite(post)) {
-    inn.status = Status::non_finite;
-    return inn;
-  }
-  const Eigen::Matrix<T, M, M> se = post.template topLeftCorner<M, M>();
-  for (int i = 0; i < M; ++i) {
-    if (!(se(i, i) * se(i, i) > detail::factored_floor_factor<T, M>() * inn.cov(i, i))) {
-      inn.status = Status::not_positive_definite;
-      return inn;
-    }
-  }
-  Eigen::Matrix<T, M, 1> w = inn.residual;
-  detail::forward_substitute(se, w);
-  inn.nis = w.squaredNorm();
-  if (!detail::is_finite(inn.nis)) {
-    inn.status = Status::non_finite;
-    return inn;
-  }
-  if (!gate.accepts(inn.nis)) {
-    inn.status = Status::gated;
-    return inn;
-  }
-  Eigen::Matrix<T, N, 1> x = est.mean;
-  x.noalias() += post.template bottomLeftCorner<N, M>() * w;
-  const Eigen::Matrix<T, N, N> s_next = post.template bottomRightCorner<N, N>();
-  if (!detail::all_finite(x)) {
-    inn.status = Status::non_finite;
-    return inn;
-  }
-  est.mean = x;
-  est.sqrt_cov = s_next;
-  inn.status = Status::ok;
-  return inn;
+  Eigen::Matrix<T, M, 1> y = z;
+  y.noalias() -= hm * est.mean;
+  return detail::sqrt_correct_residual(est, hm, Eigen::Matrix<T, M, M>(r), y, gate);
 }
 
 /// \brief Sequential scalar square-root update for a diagonal R = diag(r), one row of H at a time, by Potter's

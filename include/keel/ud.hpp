@@ -318,7 +318,7 @@ template <typename T, int N>
 }
 
 /// \brief The square-root estimate of a UD one without forming the covariance: the lower-triangular S with
-/// S Sᵀ = A Aᵀ for A = U diag(√d), by Householder triangularization of Aᵀ (keeps the factor's accuracy).
+/// S Sᵀ = A Aᵀ for A = U diag(√d), by orthogonal triangularization of Aᵀ (keeps the factor's accuracy).
 /// \returns ok, non_finite or negative_variance; `out` is written only on ok.
 template <typename T, int N>
 [[nodiscard]] Status to_sqrt(const UdGaussian<T, N>& in, SqrtGaussian<T, N>& out) noexcept {

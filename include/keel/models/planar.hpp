@@ -26,10 +26,9 @@ namespace detail {
 /// and u⁵/840 relative to the leading terms: below double's ε there), exact expressions above.
 template <typename S>
 void sinc_and_derivative(S u, S& s, S& ds) noexcept {
-  using std::abs;
   using std::cos;
   using std::sin;
-  if (abs(u) < S(1e-2)) {
+  if (u * u < S(1) / S(10000)) {  // |u| < 1e-2
     const S u2 = u * u;
     s = S(1) - u2 / S(6) + u2 * u2 / S(120);
     ds = u * (S(-1) / S(3) + u2 / S(30));
