@@ -44,3 +44,9 @@ for sc in ("float", "double"):
         j = t("joseph")
         print(f"| {sz} | {sc} | {j:.0f} | {t('sqrt'):.0f} | {t('sqrt_sequential'):.0f} | {t('ud'):.0f} "
               f"| {t('sqrt') / j:.2f}× | {t('sqrt_sequential') / j:.2f}× | {t('ud') / j:.2f}× |")
+print()
+print("| step (5x3 boat model) | float ns | double ns |")
+print("|---|---|---|")
+for fam in ("ekf_step/analytic", "ekf_step/autodiff", "ekf_step/numeric", "ukf_step/scaled", "ukf_step/cubature",
+            "ukf_step/sqrt"):
+    print(f"| {fam} | {med[f'{fam}/float/5x3']['real_time']:.0f} | {med[f'{fam}/double/5x3']['real_time']:.0f} |")
