@@ -19,6 +19,7 @@
 #include "core/gaussian.hpp"
 #include "core/innovation.hpp"
 #include "core/linalg.hpp"
+#include "core/model.hpp"
 #include "core/status.hpp"
 #include "gate.hpp"
 #include "linear.hpp"
@@ -27,23 +28,6 @@
 namespace keel {
 
 namespace detail {
-
-template <typename, typename = void>
-struct is_eigen : std::false_type {};
-template <typename A>
-struct is_eigen<A, std::void_t<typename A::Scalar, decltype(A::RowsAtCompileTime)>> : std::true_type {};
-
-/// An extra model argument (dt, a control vector) converted to the scalar S the model is evaluated in.
-template <typename S, typename A>
-auto lift(const A& a) {
-  if constexpr (std::is_arithmetic_v<A>) {
-    return S(a);
-  } else if constexpr (is_eigen<A>::value) {
-    return a.template cast<S>().eval();
-  } else {
-    return a;
-  }
-}
 
 template <typename T, int N>
 using AutodiffScalar = Eigen::AutoDiffScalar<Eigen::Matrix<T, N, 1>>;
@@ -63,29 +47,6 @@ struct autodiff_callable_impl<
     std::void_t<decltype(std::declval<const F&>()(std::declval<const Eigen::Matrix<AutodiffScalar<T, N>, N, 1>&>(),
                                                   lift<AutodiffScalar<T, N>>(std::declval<const A&>())...))>,
     A...> : std::true_type {};
-
-template <typename F, typename Z, typename = void>
-struct has_residual : std::false_type {};
-template <typename F, typename Z>
-struct has_residual<F, Z, std::void_t<decltype(std::declval<const F&>().residual(std::declval<const Z&>(),
-                                                                                std::declval<const Z&>()))>>
-    : std::true_type {};
-
-/// The model's value type at x (an Eigen column vector), as a plain matrix.
-template <typename F, typename T, int N, typename... A>
-using model_value_t =
-    typename std::decay_t<decltype(std::declval<const F&>()(std::declval<const Eigen::Matrix<T, N, 1>&>(),
-                                                            std::declval<const A&>()...))>::PlainObject;
-
-/// z ⊟ ẑ: the model's residual when it has one, else the difference.
-template <typename F, typename Z>
-Z model_residual(const F& f, const Z& z, const Z& zhat) noexcept {
-  if constexpr (has_residual<F, Z>::value) {
-    return f.residual(z, zhat);
-  } else {
-    return z - zhat;
-  }
-}
 
 /// Value f(x, args...) and Jacobian ∂f/∂x from the source the model offers (see the file comment).
 template <typename F, typename T, int N, int M, typename... A>

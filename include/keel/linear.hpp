@@ -70,6 +70,17 @@ Status apply_gain(Gaussian<T, N>& est, const Eigen::Matrix<T, M, N>& h, const Ei
   return Status::ok;
 }
 
+/// \brief NIS \f$ y^T S^{-1} y = \|L^{-1} y\|^2 \f$ of `inn.residual` from a lower factor L of S, then the gate:
+/// sets `inn.nis` and returns ok (go on and update), non_finite or gated.
+template <typename T, int M>
+Status nis_and_gate(const Eigen::Matrix<T, M, M>& l, Innovation<T, M>& inn, const Gate<T>& gate) noexcept {
+  Eigen::Matrix<T, M, 1> w = inn.residual;
+  forward_substitute(l, w);
+  inn.nis = w.squaredNorm();
+  if (!is_finite(inn.nis)) return Status::non_finite;
+  return gate.accepts(inn.nis) ? Status::ok : Status::gated;
+}
+
 /// \brief The innovation of a correction whose residual y is already formed (z − Hx for the linear filter,
 /// the model's residual(z, h(x)) for the EKF): validates the inputs, forms PHᵀ, S = HPHᵀ + R and its Cholesky
 /// factor L, the NIS, and applies the gate. Status ok means "go on and apply a gain".
@@ -91,14 +102,7 @@ Innovation<T, M> innovate_residual(const Gaussian<T, N>& est, const Eigen::Matri
     inn.status = all_finite(inn.cov) ? Status::not_positive_definite : Status::non_finite;
     return inn;
   }
-  Eigen::Matrix<T, M, 1> w = inn.residual;
-  forward_substitute(l, w);
-  inn.nis = w.squaredNorm();
-  if (!is_finite(inn.nis)) {
-    inn.status = Status::non_finite;
-  } else if (!gate.accepts(inn.nis)) {
-    inn.status = Status::gated;
-  }
+  inn.status = nis_and_gate(l, inn, gate);
   return inn;
 }
 
@@ -127,6 +131,16 @@ constexpr void check_correct_dims() {
                 "keel::correct: H, R and z must have the estimate's scalar type");
 }
 
+template <typename T, int N, typename DF, typename DQ>
+constexpr void check_predict_dims() {
+  static_assert(detail::rows_v<DF> == N && detail::cols_v<DF> == N,
+                "keel::predict: F must be N×N, N the state dimension");
+  static_assert(detail::rows_v<DQ> == N && detail::cols_v<DQ> == N,
+                "keel::predict: Q must be N×N, N the state dimension");
+  static_assert(std::is_same_v<typename DF::Scalar, T> && std::is_same_v<typename DQ::Scalar, T>,
+                "keel::predict: F and Q must have the estimate's scalar type");
+}
+
 template <typename T, int N, typename DH, typename DR, typename DZ>
 constexpr void check_sequential_dims() {
   static_assert(detail::is_fixed_size<DH>() && detail::is_fixed_size<DR>() && detail::is_fixed_size<DZ>(),
@@ -152,12 +166,7 @@ constexpr void check_sequential_dims() {
 template <typename T, int N, typename DF, typename DQ>
 [[nodiscard]] Status predict(Gaussian<T, N>& est, const Eigen::MatrixBase<DF>& f,
                              const Eigen::MatrixBase<DQ>& q) noexcept {
-  static_assert(detail::rows_v<DF> == N && detail::cols_v<DF> == N,
-                "keel::predict: F must be N×N, N the state dimension");
-  static_assert(detail::rows_v<DQ> == N && detail::cols_v<DQ> == N,
-                "keel::predict: Q must be N×N, N the state dimension");
-  static_assert(std::is_same_v<typename DF::Scalar, T> && std::is_same_v<typename DQ::Scalar, T>,
-                "keel::predict: F and Q must have the estimate's scalar type");
+  detail::check_predict_dims<T, N, DF, DQ>();
   const auto& fm = f.eval();
   const auto& qm = q.eval();
   if (!detail::all_finite(est.mean) || !detail::all_finite(est.cov) || !detail::all_finite(fm) ||

@@ -11,8 +11,8 @@
 #include "core/factor.hpp"
 #include "core/gaussian.hpp"
 #include "core/linalg.hpp"
+#include "core/model.hpp"
 #include "core/status.hpp"
-#include "ekf.hpp"
 
 namespace keel {
 

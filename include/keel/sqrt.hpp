@@ -26,14 +26,6 @@ namespace keel {
 
 namespace detail {
 
-template <typename T, int N>
-Eigen::Matrix<T, N, N> lower_part(const Eigen::Matrix<T, N, N>& s) noexcept {
-  Eigen::Matrix<T, N, N> l = s;
-  for (int j = 1; j < N; ++j)
-    for (int i = 0; i < j; ++i) l(i, j) = T(0);
-  return l;
-}
-
 /// \brief Validation shared by the square-root corrections: finite inputs (only the lower triangle of S is
 /// read), non-negative measurement variances. `r_diag` is R's diagonal or r itself.
 template <typename T, int N, int M, typename RD>
@@ -87,17 +79,10 @@ Innovation<T, M> sqrt_correct_residual(SqrtGaussian<T, N>& est, const Eigen::Mat
       return inn;
     }
   }
-  Eigen::Matrix<T, M, 1> w = inn.residual;
+  inn.status = nis_and_gate(se, inn, gate);
+  if (inn.status != Status::ok) return inn;
+  Eigen::Matrix<T, M, 1> w = inn.residual;  // x⁺ = x + K̄ S_e⁻¹ y
   forward_substitute(se, w);
-  inn.nis = w.squaredNorm();
-  if (!is_finite(inn.nis)) {
-    inn.status = Status::non_finite;
-    return inn;
-  }
-  if (!gate.accepts(inn.nis)) {
-    inn.status = Status::gated;
-    return inn;
-  }
   Eigen::Matrix<T, N, 1> x = est.mean;
   x.noalias() += post.template bottomLeftCorner<N, M>() * w;
   if (!all_finite(x)) {
@@ -123,12 +108,7 @@ Innovation<T, M> sqrt_correct_residual(SqrtGaussian<T, N>& est, const Eigen::Mat
 template <typename T, int N, typename DF, typename DQ>
 [[nodiscard]] Status predict(SqrtGaussian<T, N>& est, const Eigen::MatrixBase<DF>& f,
                              const Eigen::MatrixBase<DQ>& q) noexcept {
-  static_assert(detail::rows_v<DF> == N && detail::cols_v<DF> == N,
-                "keel::predict: F must be N×N, N the state dimension");
-  static_assert(detail::rows_v<DQ> == N && detail::cols_v<DQ> == N,
-                "keel::predict: Q must be N×N, N the state dimension");
-  static_assert(std::is_same_v<typename DF::Scalar, T> && std::is_same_v<typename DQ::Scalar, T>,
-                "keel::predict: F and Q must have the estimate's scalar type");
+  detail::check_predict_dims<T, N, DF, DQ>();
   const Eigen::Matrix<T, N, N> fm = f;
   Eigen::Matrix<T, N, N> lq = q;
   const Eigen::Matrix<T, N, N> s = detail::lower_part(est.sqrt_cov);

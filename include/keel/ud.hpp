@@ -122,12 +122,7 @@ Eigen::Matrix<T, M, M> ud_project(const Eigen::Matrix<T, N, N>& u, const Eigen::
 template <typename T, int N, typename DF, typename DQ>
 [[nodiscard]] Status predict(UdGaussian<T, N>& est, const Eigen::MatrixBase<DF>& f,
                              const Eigen::MatrixBase<DQ>& q) noexcept {
-  static_assert(detail::rows_v<DF> == N && detail::cols_v<DF> == N,
-                "keel::predict: F must be N×N, N the state dimension");
-  static_assert(detail::rows_v<DQ> == N && detail::cols_v<DQ> == N,
-                "keel::predict: Q must be N×N, N the state dimension");
-  static_assert(std::is_same_v<typename DF::Scalar, T> && std::is_same_v<typename DQ::Scalar, T>,
-                "keel::predict: F and Q must have the estimate's scalar type");
+  detail::check_predict_dims<T, N, DF, DQ>();
   const Eigen::Matrix<T, N, N> fm = f;
   const Eigen::Matrix<T, N, N> qm = q;
   Eigen::Matrix<T, N, N> u;

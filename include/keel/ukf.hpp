@@ -15,7 +15,9 @@
 #include "core/linalg.hpp"
 #include "core/status.hpp"
 #include "gate.hpp"
+#include "linear.hpp"
 #include "sigma.hpp"
+#include "sqrt.hpp"
 
 namespace keel {
 namespace ukf {
@@ -111,17 +113,8 @@ template <template <typename, int> class E, typename T, int N, typename H, typen
       inn.status = detail::all_finite(inn.cov) ? Status::not_positive_definite : Status::non_finite;
       return inn;
     }
-    Eigen::Matrix<T, M, 1> wv = inn.residual;
-    detail::forward_substitute(l, wv);
-    inn.nis = wv.squaredNorm();
-    if (!detail::is_finite(inn.nis)) {
-      inn.status = Status::non_finite;
-      return inn;
-    }
-    if (!gate.accepts(inn.nis)) {
-      inn.status = Status::gated;
-      return inn;
-    }
+    inn.status = detail::nis_and_gate(l, inn, gate);
+    if (inn.status != Status::ok) return inn;
     Eigen::Matrix<T, N, M> k;
     detail::right_solve_spd(l, ut.cross_cov, k);
     Eigen::Matrix<T, N, 1> x = est.mean;
@@ -176,17 +169,8 @@ template <template <typename, int> class E, typename T, int N, typename H, typen
         return inn;
       }
     }
-    Eigen::Matrix<T, M, 1> wv = inn.residual;
-    detail::forward_substitute(sz, wv);
-    inn.nis = wv.squaredNorm();
-    if (!detail::is_finite(inn.nis)) {
-      inn.status = Status::non_finite;
-      return inn;
-    }
-    if (!gate.accepts(inn.nis)) {
-      inn.status = Status::gated;
-      return inn;
-    }
+    inn.status = detail::nis_and_gate(sz, inn, gate);
+    if (inn.status != Status::ok) return inn;
     Eigen::Matrix<T, N, 2 * N + 1> dx = x;
     dx.colwise() -= est.mean;
     const Eigen::Matrix<T, N, M> pxz = detail::weighted_outer<T, N>(dx, zp.deviations, w);

@@ -12,6 +12,15 @@
 
 namespace keel::detail {
 
+/// The lower triangle of s (what the kernels read from a SqrtGaussian's factor), the rest zero.
+template <typename T, int N>
+Eigen::Matrix<T, N, N> lower_part(const Eigen::Matrix<T, N, N>& s) noexcept {
+  Eigen::Matrix<T, N, N> l = s;
+  for (int j = 1; j < N; ++j)
+    for (int i = 0; i < j; ++i) l(i, j) = T(0);
+  return l;
+}
+
 /// \brief Zero-pivot test shared by the semi-definite factorizations. A pivot \f$ d_j \le n\varepsilon a_{jj} \f$
 /// is numerically zero; the matrix is still semi-definite only if the rest of that Schur-complement column is
 /// zero too, to the same scale: \f$ s_{ij}^2 \le n\varepsilon\, a_{jj} a_{ii} \f$ (the 2×2 minor
