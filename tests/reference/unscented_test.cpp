@@ -2,6 +2,7 @@
 // implementation run at test time, float and double.
 #include <doctest/doctest.h>
 
+#include <keel/models/planar.hpp>
 #include <keel/sigma.hpp>
 
 #include "../support.hpp"
@@ -125,4 +126,20 @@ TEST_CASE_TEMPLATE("quadratic form xᵀAx: the mean is exact, and the variance t
   const double var = 2 * av * av * p * p + 4 * av * av * m * m * p;
   CHECK(std::abs(double(ut1.gaussian.cov(0, 0)) - var) < static_cast<double>(eps_times<T>(100)) * var);
   CHECK(std::abs(double(ut1.gaussian.mean(0)) - av * (m * m + p)) < static_cast<double>(eps_times<T>(100)));
+}
+
+TEST_CASE_TEMPLATE("a model's own mean: bearings spread across ±π average to ±π", T, float, double) {
+  // A target 50 m straight behind the sensor (bearing π) with 2 m of lateral uncertainty: half of the sigma points
+  // have bearings near +π and half near −π. Their plain weighted average is ≈ 0 (pointing ahead); the range/bearing
+  // model's own mean (wrapped deviations from the centre point) gives π. Closed form of the bearing mean by
+  // symmetry: the points are symmetric about the x axis, so the mean bearing is exactly π (or −π).
+  keel::models::RangeBearing<T, 2> rb;
+  keel::Gaussian<T, 2> target;
+  target.mean << T(-50), T(0);
+  target.cov = Eigen::Matrix<T, 2, 1>(T(1), T(4)).asDiagonal();
+  const auto ut = keel::unscented_transform(rb, target, keel::SigmaRule::scaled(1.0, 2.0, 1.0));
+  REQUIRE(ut.ok());
+  CHECK(std::abs(std::abs(double(ut.gaussian.mean(1))) - 3.141592653589793) < static_cast<double>(eps_times<T>(100)));
+  // The bearing variance is that of atan2(±σ_y·c, 50) about π, not of a jump of 2π: (2/50)² to first order.
+  CHECK(double(ut.gaussian.cov(1, 1)) < 2 * 0.04 * 0.04);
 }

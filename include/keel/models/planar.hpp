@@ -140,6 +140,21 @@ struct RangeBearing {
   Eigen::Matrix<T, 2, 1> residual(const Eigen::Matrix<T, 2, 1>& z, const Eigen::Matrix<T, 2, 1>& zhat) const noexcept {
     return Eigen::Matrix<T, 2, 1>(z(0) - zhat(0), wrap_angle(z(1) - zhat(1)));
   }
+
+  /// \brief Weighted mean of sigma points (columns) for the unscented transform: the bearing is averaged as
+  /// wrapped deviations from the first point, \f$ \bar b = b_0 + \sum_i w_i\,\mathrm{wrap}(b_i - b_0) \f$, so a
+  /// spread across ±π (a target behind the sensor) averages to ≈ ±π instead of ≈ 0; valid for any weights,
+  /// negative ones included, while the spread stays below π.
+  template <int P>
+  Eigen::Matrix<T, 2, 1> mean(const Eigen::Matrix<T, 2, P>& points, const Eigen::Matrix<T, P, 1>& weights) const noexcept {
+    T range = T(0);
+    T offset = T(0);
+    for (int i = 0; i < P; ++i) {
+      range += weights(i) * points(0, i);
+      offset += weights(i) * wrap_angle(points(1, i) - points(1, 0));
+    }
+    return Eigen::Matrix<T, 2, 1>(range, wrap_angle(points(1, 0) + offset));
+  }
 };
 
 /// \brief A heading (compass) measurement of state I: z = ψ, residual wrapped to (−π, π].
