@@ -84,6 +84,7 @@ template <typename T, int N>
   using Mat = Eigen::Matrix<T, N, N>;
   if (!detail::all_finite(a)) return Status::non_finite;
   const double norm1 = static_cast<double>(a.cwiseAbs().colwise().sum().maxCoeff());
+  if (!std::isfinite(norm1)) return Status::non_finite;  // the norm itself overflowed: e^A surely does
   constexpr double theta3 = 1.495585217958292e-2;
   constexpr double theta5 = 2.539398330063230e-1;
   constexpr double theta7 = 9.504178996162932e-1;

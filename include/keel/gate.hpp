@@ -111,7 +111,8 @@ enum class Consistency : unsigned char {
 /// in a fixed ring (no heap) and compares their mean with the two-sided interval of a consistent filter, for which
 /// Window·mean ~ χ²(Window·M) (Bar-Shalom, Li & Kirubarajan, "Estimation with Applications to Tracking and
 /// Navigation", 2001, sec. 5.4; from memory). The bounds are computed once, at construction (init-time code).
-/// The running sum is recomputed from the ring each time it wraps, so float rounding cannot drift over long runs.
+/// mean() sums the ring each time (O(Window)): no running sum, so nothing drifts or cancels over long runs
+/// (a running sum fed 1e30 then small values went negative under the fuzzer).
 template <typename T, int M, int Window>
 class NisMonitor {
   static_assert(M > 0 && Window > 0, "keel::NisMonitor: M and Window must be positive");
@@ -125,16 +126,9 @@ class NisMonitor {
   /// \brief Records one NIS value. \returns false (and records nothing) when it is negative or not finite.
   bool add(T nis) noexcept {
     if (!detail::is_finite(nis) || nis < T(0)) return false;
-    const T leaving = count_ == Window ? ring_[next_] : T(0);
     ring_[next_] = nis;
     next_ = (next_ + 1) % Window;
     if (count_ < Window) ++count_;
-    if (next_ == 0) {  // wrapped: recompute exactly, amortized O(1) per value
-      sum_ = T(0);
-      for (int i = 0; i < Window; ++i) sum_ += ring_[i];
-    } else {
-      sum_ += nis - leaving;
-    }
     return true;
   }
 
@@ -144,7 +138,12 @@ class NisMonitor {
 
   int count() const noexcept { return count_; }
   /// \brief Mean NIS over the values held (0 when empty).
-  T mean() const noexcept { return count_ > 0 ? sum_ / static_cast<T>(count_) : T(0); }
+  T mean() const noexcept {
+    if (count_ == 0) return T(0);
+    T sum = T(0);
+    for (int i = 0; i < count_; ++i) sum += ring_[i];
+    return sum / static_cast<T>(count_);
+  }
   T lower() const noexcept { return lower_; }
   T upper() const noexcept { return upper_; }
 
@@ -158,7 +157,6 @@ class NisMonitor {
 
  private:
   T ring_[Window] = {};
-  T sum_ = T(0);
   T lower_;
   T upper_;
   int next_ = 0;

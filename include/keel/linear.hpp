@@ -70,6 +70,14 @@ Status apply_gain(Gaussian<T, N>& est, const Eigen::Matrix<T, M, N>& h, const Ei
   return Status::ok;
 }
 
+/// \brief Sets `inn.status` to non_finite and returns true when its residual or covariance overflowed.
+template <typename T, int M>
+bool innovation_overflowed(Innovation<T, M>& inn) noexcept {
+  if (all_finite(inn.residual) && all_finite(inn.cov)) return false;
+  inn.status = Status::non_finite;
+  return true;
+}
+
 /// \brief NIS \f$ y^T S^{-1} y = \|L^{-1} y\|^2 \f$ of `inn.residual` from a lower factor L of S, then the gate:
 /// sets `inn.nis` and returns ok (go on and update), non_finite or gated.
 template <typename T, int M>
@@ -161,8 +169,9 @@ constexpr void check_sequential_dims() {
 
 /// \brief Time update \f$ x^- = F x,\; P^- = F P F^T + Q \f$ (Kalman, "A New Approach to Linear Filtering
 /// and Prediction Problems", 1960).
-/// \returns ok, non_finite (an input or the result is not finite) or negative_variance (Q or P has a negative
-/// diagonal entry); on any non-ok status `est` is unchanged.
+/// \returns ok, non_finite (an input or the result is not finite), negative_variance (Q or P has a negative
+/// diagonal entry) or not_positive_definite (P or Q is indefinite and the result has a negative diagonal entry);
+/// on any non-ok status `est` is unchanged.
 template <typename T, int N, typename DF, typename DQ>
 [[nodiscard]] Status predict(Gaussian<T, N>& est, const Eigen::MatrixBase<DF>& f,
                              const Eigen::MatrixBase<DQ>& q) noexcept {
@@ -181,6 +190,7 @@ template <typename T, int N, typename DF, typename DQ>
   p.noalias() += fp.lazyProduct(fm.transpose());
   detail::symmetrize(p);
   if (!detail::all_finite(x) || !detail::all_finite(p)) return Status::non_finite;
+  if (!detail::diagonal_nonnegative(p)) return Status::not_positive_definite;
   est.mean = x;
   est.cov = p;
   return Status::ok;
@@ -317,6 +327,7 @@ template <typename T, int N, typename DH, typename DR, typename DZ>
     inn.cov.diagonal() += r;
     detail::symmetrize(inn.cov);
   }
+  if (detail::innovation_overflowed(inn)) return inn;
   Eigen::Matrix<T, N, 1> x = est.mean;
   Eigen::Matrix<T, N, N> p = est.cov;
   Eigen::Matrix<T, N, 1> b;

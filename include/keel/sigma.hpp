@@ -142,7 +142,9 @@ Eigen::Matrix<T, R, C> weighted_outer(const Eigen::Matrix<T, R, 2 * N + 1>& a, c
 /// \f$ \bar y = \sum W^m_i \mathcal{Y}_i \f$ (or g.mean(Y, Wm)), \f$ P_y = \sum W^c_i (\mathcal{Y}_i \boxminus
 /// \bar y)(\cdot)^T,\ P_{xy} = \sum W^c_i (\chi_i - m)(\mathcal{Y}_i \boxminus \bar y)^T \f$.
 /// Extra arguments are passed to g after x.
-/// \returns Transformed with status ok, non_finite, or not_positive_definite (the covariance is indefinite).
+/// \returns Transformed with status ok, non_finite (an input, the rule's weights or the result is not finite), or
+/// not_positive_definite (the covariance is indefinite, or the transformed covariance has a negative diagonal
+/// entry, which a negative centre weight can cause).
 template <template <typename, int> class E, typename T, int N, typename G, typename... A>
 [[nodiscard]] auto unscented_transform(const G& g, const E<T, N>& est, const SigmaRule& rule,
                                        const A&... args) noexcept {
@@ -172,10 +174,14 @@ template <template <typename, int> class E, typename T, int N, typename G, typen
   out.gaussian.cov = detail::weighted_outer<T, N>(y.deviations, y.deviations, w);
   detail::symmetrize(out.gaussian.cov);
   out.cross_cov = detail::weighted_outer<T, N>(dx, y.deviations, w);
-  out.status = detail::all_finite(out.gaussian.mean) && detail::all_finite(out.gaussian.cov) &&
-                       detail::all_finite(out.cross_cov)
-                   ? Status::ok
-                   : Status::non_finite;
+  if (!detail::all_finite(out.gaussian.mean) || !detail::all_finite(out.gaussian.cov) ||
+      !detail::all_finite(out.cross_cov)) {
+    out.status = Status::non_finite;
+  } else if (!detail::diagonal_nonnegative(out.gaussian.cov)) {
+    out.status = Status::not_positive_definite;  // a negative centre weight outweighed the others
+  } else {
+    out.status = Status::ok;
+  }
   return out;
 }
 

@@ -12,6 +12,36 @@
 
 namespace keel {
 
+namespace detail {
+
+/// One backward step: the smoothed estimate at k from filtered[k], predicted[k], F_k and the smoothed k+1.
+/// Writes `out` only on ok (it may alias `filt`).
+template <typename T, int N>
+Status rts_step(const Gaussian<T, N>& filt, const Gaussian<T, N>& pred, const Eigen::Matrix<T, N, N>& f,
+                const Gaussian<T, N>& next, Gaussian<T, N>& out) noexcept {
+  Eigen::Matrix<T, N, N> l = pred.cov;
+  if (!cholesky_in_place(l)) return Status::not_positive_definite;
+  Eigen::Matrix<T, N, N> pft;
+  pft.noalias() = filt.cov.lazyProduct(f.transpose());
+  Eigen::Matrix<T, N, N> c;
+  right_solve_spd(l, pft, c);
+  Eigen::Matrix<T, N, 1> x = filt.mean;
+  x.noalias() += c * (next.mean - pred.mean);
+  const Eigen::Matrix<T, N, N> dp = next.cov - pred.cov;
+  Eigen::Matrix<T, N, N> cdp;
+  cdp.noalias() = c.lazyProduct(dp);
+  Eigen::Matrix<T, N, N> p = filt.cov;
+  p.noalias() += cdp.lazyProduct(c.transpose());
+  symmetrize(p);
+  if (!all_finite(x) || !all_finite(p)) return Status::non_finite;
+  if (!diagonal_nonnegative(p)) return Status::not_positive_definite;
+  out.mean = x;
+  out.cov = p;
+  return Status::ok;
+}
+
+}  // namespace detail
+
 /// \brief Fixed-interval smoothing of a filtered run (Rauch, Tung & Striebel, "Maximum likelihood estimates of
 /// linear dynamic systems", AIAA Journal, 1965). With \f$ x_{k|k}, P_{k|k} \f$ = `filtered[k]`,
 /// \f$ x_{k+1|k}, P_{k+1|k} \f$ = `predicted[k]` and \f$ F_k \f$ = `f[k]` (the transition, or the EKF's Jacobian,
@@ -21,10 +51,13 @@ namespace keel {
 /// \f$ P_{k|n} = P_{k|k} + C_k (P_{k+1|n} - P_{k+1|k}) C_k^T \f$ (symmetrized).
 /// `filtered` and `smoothed` hold `count` estimates, `predicted` and `f` hold count − 1; `smoothed` may be the
 /// same array as `filtered` (smoothing in place over a long log).
-/// All inputs are validated (finite, every \f$ P_{k+1|k} \f$ positive-definite) before anything is written, so
-/// on non_finite or not_positive_definite from that check `smoothed` is untouched; only an overflow during
-/// the backward pass itself (non_finite) can leave `smoothed[k+1..]` written and `smoothed[..k]` untouched.
-/// \returns ok, non_finite, or not_positive_definite (some predicted covariance is not positive-definite).
+/// Nothing is written unless the whole pass succeeds: the inputs are checked, the backward pass is run once
+/// into a local estimate, and only then run again writing `smoothed` (twice the arithmetic of a single pass,
+/// the price of leaving a long log untouched when an overflow or an indefinite covariance shows up midway).
+/// \returns ok, non_finite (an input or an intermediate result is not finite), negative_variance (a filtered
+/// covariance has a negative diagonal entry) or not_positive_definite (a predicted covariance is not
+/// positive-definite, or a smoothed covariance would have a negative diagonal entry); `smoothed` is
+/// untouched unless ok.
 template <typename T, int N>
 [[nodiscard]] Status rts_smooth(const Gaussian<T, N>* filtered, const Gaussian<T, N>* predicted,
                                 const Eigen::Matrix<T, N, N>* f, std::size_t count,
@@ -32,33 +65,22 @@ template <typename T, int N>
   if (count == 0) return Status::ok;
   for (std::size_t k = 0; k < count; ++k) {
     if (!detail::all_finite(filtered[k].mean) || !detail::all_finite(filtered[k].cov)) return Status::non_finite;
+    if (!detail::diagonal_nonnegative(filtered[k].cov)) return Status::negative_variance;
     if (k + 1 == count) break;
     if (!detail::all_finite(predicted[k].mean) || !detail::all_finite(predicted[k].cov) || !detail::all_finite(f[k]))
       return Status::non_finite;
-    Eigen::Matrix<T, N, N> l = predicted[k].cov;
-    if (!detail::cholesky_in_place(l)) return Status::not_positive_definite;
+  }
+  // Dry run: the whole backward pass through one local estimate, so that a failure anywhere (an indefinite
+  // predicted covariance, an overflow, a lost diagonal) leaves `smoothed` untouched. Then the same pass again,
+  // writing: it repeats the dry run's arithmetic exactly, so it cannot fail.
+  Gaussian<T, N> next = filtered[count - 1];
+  for (std::size_t k = count - 1; k-- > 0;) {
+    const Status s = detail::rts_step(filtered[k], predicted[k], f[k], next, next);
+    if (s != Status::ok) return s;
   }
   smoothed[count - 1] = filtered[count - 1];
   for (std::size_t k = count - 1; k-- > 0;) {
-    const Gaussian<T, N>& filt = filtered[k];
-    const Gaussian<T, N>& pred = predicted[k];
-    Eigen::Matrix<T, N, N> l = pred.cov;
-    if (!detail::cholesky_in_place(l)) return Status::not_positive_definite;
-    Eigen::Matrix<T, N, N> pft;
-    pft.noalias() = filt.cov.lazyProduct(f[k].transpose());
-    Eigen::Matrix<T, N, N> c;
-    detail::right_solve_spd(l, pft, c);
-    Eigen::Matrix<T, N, 1> x = filt.mean;
-    x.noalias() += c * (smoothed[k + 1].mean - pred.mean);
-    const Eigen::Matrix<T, N, N> dp = smoothed[k + 1].cov - pred.cov;
-    Eigen::Matrix<T, N, N> cdp;
-    cdp.noalias() = c.lazyProduct(dp);
-    Eigen::Matrix<T, N, N> p = filt.cov;
-    p.noalias() += cdp.lazyProduct(c.transpose());
-    detail::symmetrize(p);
-    if (!detail::all_finite(x) || !detail::all_finite(p)) return Status::non_finite;
-    smoothed[k].mean = x;
-    smoothed[k].cov = p;
+    (void)detail::rts_step(filtered[k], predicted[k], f[k], smoothed[k + 1], smoothed[k]);
   }
   return Status::ok;
 }

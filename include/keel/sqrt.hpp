@@ -61,6 +61,7 @@ Innovation<T, M> sqrt_correct_residual(SqrtGaussian<T, N>& est, const Eigen::Mat
   inn.cov.noalias() += hs.lazyProduct(hs.transpose());
   symmetrize(inn.cov);
   inn.residual = y;
+  if (innovation_overflowed(inn)) return inn;
 
   Eigen::Matrix<T, M + N, M + N> pre;
   pre.template topLeftCorner<M, M>() = lr.transpose();
@@ -188,6 +189,7 @@ template <typename T, int N, typename DH, typename DR, typename DZ>
     inn.cov.diagonal() += r;
     detail::symmetrize(inn.cov);
   }
+  if (detail::innovation_overflowed(inn)) return inn;
   Eigen::Matrix<T, N, 1> x = est.mean;
   Eigen::Matrix<T, N, 1> phi;
   Eigen::Matrix<T, N, 1> b;

@@ -195,6 +195,7 @@ template <typename T, int N, typename DH, typename DR, typename DZ>
   inn.cov = detail::ud_project(u, est.d, hm);
   inn.cov.diagonal() += r;
   detail::symmetrize(inn.cov);
+  if (detail::innovation_overflowed(inn)) return inn;
   Eigen::Matrix<T, N, 1> x = est.mean;
   Eigen::Matrix<T, N, 1> d = est.d;
   T nis = T(0);
@@ -250,6 +251,7 @@ template <typename T, int N, typename DH, typename DR, typename DZ>
   inn.cov = detail::ud_project(u, est.d, hm);
   inn.cov += rm;
   detail::symmetrize(inn.cov);
+  if (detail::innovation_overflowed(inn)) return inn;
   Eigen::Matrix<T, M, N> hw;
   for (int j = 0; j < N; ++j) {
     Eigen::Matrix<T, M, 1> col = hm.col(j);
