@@ -2,6 +2,7 @@
 // with the fuzzer's own values where the cause needs them; the expected Status follows from the kernel's
 // contract (a non-ok Status leaves the estimate bit-for-bit unchanged; ok means finite, symmetric, with a
 // non-negative diagonal). The inputs themselves are replayed by the fuzz tests from fuzz/corpus/.
+#include <cmath>
 #include <limits>
 
 #include <doctest/doctest.h>
@@ -162,4 +163,23 @@ TEST_CASE_TEMPLATE("unscented_transform: a rule that makes the variance negative
   CHECK(good.gaussian.cov(0, 0) == doctest::Approx(2.0).epsilon(keel_test::eps_times<T>(64)));
   const auto bad = keel::unscented_transform(Square{}, est, keel::SigmaRule::scaled(0.5, -1.0, 0.0));
   CHECK(bad.status == Status::not_positive_definite);
+}
+
+TEST_CASE_TEMPLATE("nees: finite inputs whose error overflows give +inf, not NaN", T, float, double) {
+  // The gate fuzz target: x − x̂ = max − (−max) overflows to +inf, and the triangular solve then forms
+  // 0·inf = NaN in the next row. An infinitely wrong estimate has NEES +inf (all three forms); an input that
+  // holds NaN gives NaN.
+  const T mx = std::numeric_limits<T>::max();
+  keel::Gaussian<T, 2> est;
+  est.mean << -mx, T(0);
+  const Eigen::Matrix<T, 2, 1> truth(mx, T(0));
+  CHECK(keel::nees(est, truth) == std::numeric_limits<T>::infinity());
+  keel::SqrtGaussian<T, 2> s;
+  s.mean = est.mean;
+  CHECK(keel::nees(s, truth) == std::numeric_limits<T>::infinity());
+  keel::UdGaussian<T, 2> ud;
+  ud.mean = est.mean;
+  CHECK(keel::nees(ud, truth) == std::numeric_limits<T>::infinity());
+  const Eigen::Matrix<T, 2, 1> nan_truth(std::numeric_limits<T>::quiet_NaN(), T(0));
+  CHECK(std::isnan(keel::nees(est, nan_truth)));
 }

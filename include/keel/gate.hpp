@@ -163,17 +163,28 @@ class NisMonitor {
   int count_ = 0;
 };
 
+namespace detail {
+/// The end of every NEES: a NaN met on the way from finite inputs is an overflow (inf − inf), reported as +inf.
+template <typename T>
+T nees_value(T v) noexcept {
+  return v == v ? v : std::numeric_limits<T>::infinity();
+}
+}  // namespace detail
+
 /// \brief Normalized estimation error squared \f$ (x - \hat x)^T P^{-1} (x - \hat x) \f$ of an estimate
-/// against the true state (for simulation studies). Returns +infinity when P is not positive-definite.
+/// against the true state (for simulation studies). Returns NaN when an input holds NaN or Inf, +infinity when P
+/// is not positive-definite or the value overflows.
 template <typename T, int N, typename Derived>
 T nees(const Gaussian<T, N>& est, const Eigen::MatrixBase<Derived>& truth) noexcept {
   static_assert(detail::rows_v<Derived> == N && detail::cols_v<Derived> == 1,
                 "keel::nees: truth must be an N-vector, N the state dimension");
+  if (!detail::all_finite(truth) || !detail::all_finite(est.mean) || !detail::all_finite(est.cov))
+    return std::numeric_limits<T>::quiet_NaN();
   Eigen::Matrix<T, N, N> l = est.cov;
   if (!detail::cholesky_in_place(l)) return std::numeric_limits<T>::infinity();
   Eigen::Matrix<T, N, 1> e = truth - est.mean;
   detail::forward_substitute(l, e);
-  return e.squaredNorm();
+  return detail::nees_value(e.squaredNorm());
 }
 
 }  // namespace keel

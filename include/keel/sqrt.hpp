@@ -253,16 +253,19 @@ template <typename T, int N>
 }
 
 /// \brief NEES \f$ (x - \hat x)^T (S S^T)^{-1} (x - \hat x) = \|S^{-1}(x - \hat x)\|^2 \f$ of a square-root
-/// estimate against the true state (simulation studies); +infinity when S has a non-positive diagonal entry.
+/// estimate against the true state (simulation studies); NaN when an input holds NaN or Inf, +infinity when S
+/// has a non-positive diagonal entry or the value overflows.
 template <typename T, int N, typename Derived>
 T nees(const SqrtGaussian<T, N>& est, const Eigen::MatrixBase<Derived>& truth) noexcept {
   static_assert(detail::rows_v<Derived> == N && detail::cols_v<Derived> == 1,
                 "keel::nees: truth must be an N-vector, N the state dimension");
   const Eigen::Matrix<T, N, N> s = detail::lower_part(est.sqrt_cov);
+  if (!detail::all_finite(truth) || !detail::all_finite(est.mean) || !detail::all_finite(s))
+    return std::numeric_limits<T>::quiet_NaN();
   if (!(s.diagonal().minCoeff() > T(0))) return std::numeric_limits<T>::infinity();
   Eigen::Matrix<T, N, 1> e = truth - est.mean;
   detail::forward_substitute(s, e);
-  return e.squaredNorm();
+  return detail::nees_value(e.squaredNorm());
 }
 
 }  // namespace keel

@@ -368,11 +368,15 @@ template <typename T, int N>
 }
 
 /// \brief NEES \f$ e^T (U D U^T)^{-1} e = \sum_i v_i^2 / d_i \f$ with \f$ U v = e = x - \hat x \f$ of a UD
-/// estimate against the true state (simulation studies); +infinity when some d_i is not positive.
+/// estimate against the true state (simulation studies); NaN when an input holds NaN or Inf, +infinity when
+/// some d_i is not positive or the value overflows.
 template <typename T, int N, typename Derived>
 T nees(const UdGaussian<T, N>& est, const Eigen::MatrixBase<Derived>& truth) noexcept {
   static_assert(detail::rows_v<Derived> == N && detail::cols_v<Derived> == 1,
                 "keel::nees: truth must be an N-vector, N the state dimension");
+  if (!detail::all_finite(truth) || !detail::all_finite(est.mean) || !detail::all_finite(est.u) ||
+      !detail::all_finite(est.d))
+    return std::numeric_limits<T>::quiet_NaN();
   if (!(est.d.minCoeff() > T(0))) return std::numeric_limits<T>::infinity();
   Eigen::Matrix<T, N, 1> v = truth - est.mean;
   T sum = T(0);
@@ -380,7 +384,7 @@ T nees(const UdGaussian<T, N>& est, const Eigen::MatrixBase<Derived>& truth) noe
     for (int k = i + 1; k < N; ++k) v(i) -= est.u(i, k) * v(k);
     sum += v(i) * v(i) / est.d(i);
   }
-  return sum;
+  return detail::nees_value(sum);
 }
 
 }  // namespace keel
