@@ -178,11 +178,12 @@ template <typename T, int N, typename Derived>
 T nees(const Gaussian<T, N>& est, const Eigen::MatrixBase<Derived>& truth) noexcept {
   static_assert(detail::rows_v<Derived> == N && detail::cols_v<Derived> == 1,
                 "keel::nees: truth must be an N-vector, N the state dimension");
-  if (!detail::all_finite(truth) || !detail::all_finite(est.mean) || !detail::all_finite(est.cov))
+  const Eigen::Matrix<T, N, 1> t = truth;
+  if (!detail::all_finite(t) || !detail::all_finite(est.mean) || !detail::all_finite(est.cov))
     return std::numeric_limits<T>::quiet_NaN();
   Eigen::Matrix<T, N, N> l = est.cov;
   if (!detail::cholesky_in_place(l)) return std::numeric_limits<T>::infinity();
-  Eigen::Matrix<T, N, 1> e = truth - est.mean;
+  Eigen::Matrix<T, N, 1> e = t - est.mean;
   detail::forward_substitute(l, e);
   return detail::nees_value(e.squaredNorm());
 }

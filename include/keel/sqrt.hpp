@@ -260,10 +260,11 @@ T nees(const SqrtGaussian<T, N>& est, const Eigen::MatrixBase<Derived>& truth) n
   static_assert(detail::rows_v<Derived> == N && detail::cols_v<Derived> == 1,
                 "keel::nees: truth must be an N-vector, N the state dimension");
   const Eigen::Matrix<T, N, N> s = detail::lower_part(est.sqrt_cov);
-  if (!detail::all_finite(truth) || !detail::all_finite(est.mean) || !detail::all_finite(s))
+  const Eigen::Matrix<T, N, 1> t = truth;
+  if (!detail::all_finite(t) || !detail::all_finite(est.mean) || !detail::all_finite(s))
     return std::numeric_limits<T>::quiet_NaN();
   if (!(s.diagonal().minCoeff() > T(0))) return std::numeric_limits<T>::infinity();
-  Eigen::Matrix<T, N, 1> e = truth - est.mean;
+  Eigen::Matrix<T, N, 1> e = t - est.mean;
   detail::forward_substitute(s, e);
   return detail::nees_value(e.squaredNorm());
 }

@@ -374,11 +374,12 @@ template <typename T, int N, typename Derived>
 T nees(const UdGaussian<T, N>& est, const Eigen::MatrixBase<Derived>& truth) noexcept {
   static_assert(detail::rows_v<Derived> == N && detail::cols_v<Derived> == 1,
                 "keel::nees: truth must be an N-vector, N the state dimension");
-  if (!detail::all_finite(truth) || !detail::all_finite(est.mean) || !detail::all_finite(est.u) ||
+  const Eigen::Matrix<T, N, 1> t = truth;
+  if (!detail::all_finite(t) || !detail::all_finite(est.mean) || !detail::all_finite(est.u) ||
       !detail::all_finite(est.d))
     return std::numeric_limits<T>::quiet_NaN();
   if (!(est.d.minCoeff() > T(0))) return std::numeric_limits<T>::infinity();
-  Eigen::Matrix<T, N, 1> v = truth - est.mean;
+  Eigen::Matrix<T, N, 1> v = t - est.mean;
   T sum = T(0);
   for (int i = N - 1; i >= 0; --i) {
     for (int k = i + 1; k < N; ++k) v(i) -= est.u(i, k) * v(k);
