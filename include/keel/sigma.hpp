@@ -142,8 +142,8 @@ Eigen::Matrix<T, R, C> weighted_outer(const Eigen::Matrix<T, R, 2 * N + 1>& a, c
 /// \f$ \bar y = \sum W^m_i \mathcal{Y}_i \f$ (or g.mean(Y, Wm)), \f$ P_y = \sum W^c_i (\mathcal{Y}_i \boxminus
 /// \bar y)(\cdot)^T,\ P_{xy} = \sum W^c_i (\chi_i - m)(\mathcal{Y}_i \boxminus \bar y)^T \f$.
 /// Extra arguments are passed to g after x.
-/// \returns Transformed with status ok, non_finite (an input, the rule's weights or the result is not finite), or
-/// not_positive_definite (the covariance is indefinite, or the transformed covariance has a negative diagonal
+/// \returns Transformed with status ok, non_finite (an input, the rule's weights or the result is not finite),
+/// negative_variance (the covariance has a negative diagonal entry), or not_positive_definite (the covariance is indefinite, or the transformed covariance has a negative diagonal
 /// entry, which a negative centre weight can cause).
 template <template <typename, int> class E, typename T, int N, typename G, typename... A>
 [[nodiscard]] auto unscented_transform(const G& g, const E<T, N>& est, const SigmaRule& rule,
@@ -159,6 +159,10 @@ template <template <typename, int> class E, typename T, int N, typename G, typen
                   "keel::unscented_transform: the estimate must be a Gaussian or a SqrtGaussian");
     l = est.cov;
     if (!detail::all_finite(est.mean) || !detail::all_finite(l)) return out;
+    if (!detail::diagonal_nonnegative(l)) {
+      out.status = Status::negative_variance;
+      return out;
+    }
     detail::symmetrize(l);
     if (!detail::psd_cholesky_in_place(l)) {
       out.status = Status::not_positive_definite;

@@ -28,7 +28,7 @@ namespace ukf {
 /// square-root unscented Kalman filter for state and parameter estimation", 2001): \f$ S^- \f$ is the
 /// triangular factor of \f$ [\sqrt{W_1}(\mathcal{Y}_{1:2N} - \bar y),\ L_Q] \f$ (orthogonal triangularization),
 /// then a rank-1 Cholesky update with \f$ \sqrt{|W^c_0|}(\mathcal{Y}_0 - \bar y) \f$, a downdate when W^c_0 < 0.
-/// \returns ok, non_finite, negative_variance (Q), not_positive_definite (P or Q indefinite, or the downdate
+/// \returns ok, non_finite, negative_variance (P or Q), not_positive_definite (P or Q indefinite, or the downdate
 /// of a negative centre weight would lose positive-definiteness); `est` unchanged unless ok.
 template <template <typename, int> class E, typename T, int N, typename F, typename DQ, typename... A>
 [[nodiscard]] Status predict(E<T, N>& est, const F& f, const Eigen::MatrixBase<DQ>& q, const SigmaRule& rule,
