@@ -183,3 +183,17 @@ TEST_CASE_TEMPLATE("nees: finite inputs whose error overflows give +inf, not NaN
   const Eigen::Matrix<T, 2, 1> nan_truth(std::numeric_limits<T>::quiet_NaN(), T(0));
   CHECK(std::isnan(keel::nees(est, nan_truth)));
 }
+
+TEST_CASE_TEMPLATE("rts_smooth: the last estimate comes out symmetric like every other", T, float, double) {
+  // The smoother fuzz target: a one-step run copied a non-symmetric filtered covariance to the output with
+  // status ok. The last smoothed estimate is the filtered one, symmetrized as every smoothed covariance is:
+  // (P + Pᵀ)/2 of [[1, 0.25], [0.75, 2]] is [[1, 0.5], [0.5, 2]].
+  keel::Gaussian<T, 2> filtered[1];
+  filtered[0].cov << T(1), T(0.25), T(0.75), T(2);
+  const keel::Gaussian<T, 2> predicted[1];
+  const Eigen::Matrix<T, 2, 2> f[1] = {Eigen::Matrix<T, 2, 2>::Identity()};
+  keel::Gaussian<T, 2> out[1];
+  REQUIRE(keel::rts_smooth(filtered, predicted, f, 1, out) == Status::ok);
+  CHECK(out[0].cov(0, 1) == T(0.5));
+  CHECK(out[0].cov(1, 0) == T(0.5));
+}

@@ -74,11 +74,13 @@ template <typename T, int N>
   // predicted covariance, an overflow, a lost diagonal) leaves `smoothed` untouched. Then the same pass again,
   // writing: it repeats the dry run's arithmetic exactly, so it cannot fail.
   Gaussian<T, N> next = filtered[count - 1];
+  detail::symmetrize(next.cov);  // as every smoothed covariance (the input may be slightly off)
+  const Gaussian<T, N> last = next;
   for (std::size_t k = count - 1; k-- > 0;) {
     const Status s = detail::rts_step(filtered[k], predicted[k], f[k], next, next);
     if (s != Status::ok) return s;
   }
-  smoothed[count - 1] = filtered[count - 1];
+  smoothed[count - 1] = last;
   for (std::size_t k = count - 1; k-- > 0;) {
     (void)detail::rts_step(filtered[k], predicted[k], f[k], smoothed[k + 1], smoothed[k]);
   }
