@@ -197,3 +197,17 @@ TEST_CASE_TEMPLATE("rts_smooth: the last estimate comes out symmetric like every
   CHECK(out[0].cov(0, 1) == T(0.5));
   CHECK(out[0].cov(1, 0) == T(0.5));
 }
+
+TEST_CASE_TEMPLATE("rts_smooth: symmetrizing a covariance of the largest finite values does not overflow", T, float,
+                   double) {
+  // The smoother fuzz target: a one-step run whose filtered covariance held max everywhere; (P + Pᵀ)/2 formed
+  // max + max = inf and the smoother returned ok with an infinite covariance. P/2 + Pᵀ/2 = max exactly.
+  const T mx = std::numeric_limits<T>::max();
+  keel::Gaussian<T, 2> filtered[1];
+  filtered[0].cov.setConstant(mx);
+  const keel::Gaussian<T, 2> predicted[1];
+  const Eigen::Matrix<T, 2, 2> f[1] = {Eigen::Matrix<T, 2, 2>::Identity()};
+  keel::Gaussian<T, 2> out[1];
+  REQUIRE(keel::rts_smooth(filtered, predicted, f, 1, out) == Status::ok);
+  CHECK(out[0].cov(0, 1) == mx);
+}

@@ -81,12 +81,13 @@ bool diagonal_nonnegative(const Eigen::MatrixBase<Derived>& a) noexcept {
   return true;
 }
 
-/// \brief A := (A + Aᵀ)/2 in place.
+/// \brief A := (A + Aᵀ)/2 in place, as A/2 + Aᵀ/2: the same bits as halving the sum (halving is exact), but
+/// finite for entries near the largest float (the sum overflowed: a fuzz finding).
 template <typename T, int N>
 void symmetrize(Eigen::Matrix<T, N, N>& a) noexcept {
   for (int j = 0; j < N; ++j)
     for (int i = j + 1; i < N; ++i) {
-      const T m = T(0.5) * (a(i, j) + a(j, i));
+      const T m = T(0.5) * a(i, j) + T(0.5) * a(j, i);
       a(i, j) = m;
       a(j, i) = m;
     }
