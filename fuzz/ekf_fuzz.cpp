@@ -28,7 +28,7 @@ void step(keel_fuzz::Bytes& in, E& est, const keel::Gate<T>& gate, const char* w
 
 template <typename T>
 void run(keel_fuzz::Bytes& in) {
-  const keel::Gate<T> gate = in.choice(2) != 0 ? keel::Gate<T>{in.scalar<T>()} : keel::Gate<T>{};
+  const keel::Gate<T> gate = keel_fuzz::gate_from<T>(in);
   switch (in.choice(3)) {
     case 0: {
       auto est = in.gaussian<T, N>();
@@ -59,7 +59,5 @@ void run(keel_fuzz::Bytes& in) {
 }  // namespace
 
 extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size) {
-  keel_fuzz::Bytes in(data, size);
-  if (in.choice(2) == 0) run<float>(in); else run<double>(in);
-  return 0;
+  return keel_fuzz::entry(data, size, [](auto zero, keel_fuzz::Bytes& in) { run<decltype(zero)>(in); });
 }

@@ -14,6 +14,7 @@
 
 #include <keel/core/gaussian.hpp>
 #include <keel/core/innovation.hpp>
+#include <keel/gate.hpp>
 
 namespace keel_fuzz {
 
@@ -173,6 +174,50 @@ void check_outcome(const keel::Innovation<T, M>& inn, const E& before, const E& 
     expect(inn.residual.allFinite() && inn.cov.allFinite() && std::isfinite(inn.nis) && inn.nis >= T(0),
            "ok but the innovation is not finite", where);
   }
+}
+
+/// A gate from the input: none (accept everything) or an arbitrary threshold.
+template <typename T>
+keel::Gate<T> gate_from(Bytes& in) noexcept {
+  return in.choice(2) != 0 ? keel::Gate<T>{in.scalar<T>()} : keel::Gate<T>{};
+}
+
+enum class Update { predict = 0, correct = 1, sequential = 2 };
+
+/// The three updates every representation has — predict(F, Q), correct(H, R, z, gate) and
+/// correct_sequential(H, r, z, gate) — on an N-state estimate with M measurements. The kernels are found at
+/// instantiation (argument-dependent lookup), so the including target decides which representation it covers.
+template <int N, int M, typename E, typename T>
+void common_update(Bytes& in, E& est, const keel::Gate<T>& gate, Update which, const char* where) noexcept {
+  const E before = est;
+  if (which == Update::predict) {
+    const auto f = in.matrix<T, N, N>();
+    const auto q = in.covariance<T, N>();
+    check_outcome(predict(est, f, q), before, est, where);
+    return;
+  }
+  const auto h = in.matrix<T, M, N>();
+  if (which == Update::correct) {
+    const auto r = in.covariance<T, M>();
+    const auto z = in.matrix<T, M, 1>();
+    check_outcome(correct(est, h, r, z, gate), before, est, where);
+  } else {
+    const auto r_diag = in.matrix<T, M, 1>();
+    const auto z = in.matrix<T, M, 1>();
+    check_outcome(correct_sequential(est, h, r_diag, z, gate), before, est, where);
+  }
+}
+
+/// The body of LLVMFuzzerTestOneInput: the first byte chooses float or double, then `run(T{}, in)`.
+template <typename Run>
+int entry(const std::uint8_t* data, std::size_t size, Run run) noexcept {
+  Bytes in(data, size);
+  if (in.choice(2) == 0) {
+    run(float{}, in);
+  } else {
+    run(double{}, in);
+  }
+  return 0;
 }
 
 }  // namespace keel_fuzz

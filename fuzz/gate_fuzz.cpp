@@ -51,7 +51,5 @@ void run(keel_fuzz::Bytes& in) {
 }  // namespace
 
 extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size) {
-  keel_fuzz::Bytes in(data, size);
-  if (in.choice(2) == 0) run<float>(in); else run<double>(in);
-  return 0;
+  return keel_fuzz::entry(data, size, [](auto zero, keel_fuzz::Bytes& in) { run<decltype(zero)>(in); });
 }

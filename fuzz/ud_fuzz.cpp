@@ -21,28 +21,13 @@ void run(keel_fuzz::Bytes& in) {
   est.d = in.matrix<T, N, 1>();
   if (in.choice(2) != 0) est.d = est.d.cwiseAbs();
   const auto before = est;
-  const keel::Gate<T> gate = in.choice(2) != 0 ? keel::Gate<T>{in.scalar<T>()} : keel::Gate<T>{};
-  switch (in.choice(5)) {
-    case 0: {
-      const auto f = in.matrix<T, N, N>();
-      const auto q = in.covariance<T, N>();
-      check_outcome(keel::predict(est, f, q), before, est, "ud predict");
-      break;
-    }
-    case 1: {
-      const auto h = in.matrix<T, M, N>();
-      const auto r = in.covariance<T, M>();
-      const auto z = in.matrix<T, M, 1>();
-      check_outcome(keel::correct(est, h, r, z, gate), before, est, "ud correct");
-      break;
-    }
-    case 2: {
-      const auto h = in.matrix<T, M, N>();
-      const auto r_diag = in.matrix<T, M, 1>();
-      const auto z = in.matrix<T, M, 1>();
-      check_outcome(keel::correct_sequential(est, h, r_diag, z, gate), before, est, "ud correct_sequential");
-      break;
-    }
+  const keel::Gate<T> gate = keel_fuzz::gate_from<T>(in);
+  const int which = in.choice(5);
+  if (which < 3) {
+    keel_fuzz::common_update<N, M>(in, est, gate, static_cast<keel_fuzz::Update>(which), "ud");
+    return;
+  }
+  switch (which) {
     case 3: {
       keel::Gaussian<T, N> g = in.gaussian<T, N>();
       const auto g_old = g;
@@ -73,7 +58,5 @@ void run(keel_fuzz::Bytes& in) {
 }  // namespace
 
 extern "C" int LLVMFuzzerTestOneInput(const std::uint8_t* data, std::size_t size) {
-  keel_fuzz::Bytes in(data, size);
-  if (in.choice(2) == 0) run<float>(in); else run<double>(in);
-  return 0;
+  return keel_fuzz::entry(data, size, [](auto zero, keel_fuzz::Bytes& in) { run<decltype(zero)>(in); });
 }
