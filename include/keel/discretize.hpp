@@ -28,10 +28,9 @@ namespace detail {
 
 /// Numerator coefficients of the [m/m] Padé approximant of eˣ: \f$ c_j = \frac{(2m-j)!\,m!}{(2m)!\,j!\,(m-j)!} \f$,
 /// by the recurrence \f$ c_0 = 1,\ c_j = c_{j-1}\,(m-j+1)/(j\,(2m-j+1)) \f$ (Golub & Van Loan, 2013, sec. 9.3.1).
-template <int Mdeg>
-constexpr double pade_coefficient(int j) noexcept {
+constexpr double pade_coefficient(int m, int j) noexcept {
   double c = 1.0;
-  for (int i = 1; i <= j; ++i) c = c * double(Mdeg - i + 1) / double(i * (2 * Mdeg - i + 1));
+  for (int i = 1; i <= j; ++i) c = c * double(m - i + 1) / double(i * (2 * m - i + 1));
   return c;
 }
 
@@ -95,28 +94,28 @@ template <typename T, int N>
   Mat v;
   int squarings = 0;
   const Mat a2 = detail::product(a, a);
-  auto odd_even = [&](auto deg, const Mat& x, const Mat& x2) {
-    constexpr int m = decltype(deg)::value;
-    // U = x·Σ c_j x^(j−1) over odd j, V = Σ c_j x^j over even j, with powers of x² built up as needed.
+  // Degrees 3–9: U = A·Σ c_j A^(j−1) over odd j, V = Σ c_j A^j over even j, powers of A² built up as needed.
+  // (The degree is a run-time value: one loop per scalar and size, not one per degree.)
+  auto odd_even = [&](int m) {
     Mat pow = id;
-    Mat su = T(detail::pade_coefficient<m>(1)) * id;
-    Mat sv = T(detail::pade_coefficient<m>(0)) * id;
+    Mat su = T(detail::pade_coefficient(m, 1)) * id;
+    Mat sv = T(detail::pade_coefficient(m, 0)) * id;
     for (int j = 2; j <= m; j += 2) {
-      pow = detail::product(pow, x2);
-      sv += T(detail::pade_coefficient<m>(j)) * pow;
-      if (j + 1 <= m) su += T(detail::pade_coefficient<m>(j + 1)) * pow;
+      pow = detail::product(pow, a2);
+      sv += T(detail::pade_coefficient(m, j)) * pow;
+      if (j + 1 <= m) su += T(detail::pade_coefficient(m, j + 1)) * pow;
     }
-    u = detail::product(x, su);
+    u = detail::product(a, su);
     v = sv;
   };
   if (norm1 <= theta3) {
-    odd_even(std::integral_constant<int, 3>{}, a, a2);
+    odd_even(3);
   } else if (norm1 <= theta5) {
-    odd_even(std::integral_constant<int, 5>{}, a, a2);
+    odd_even(5);
   } else if (norm1 <= theta7) {
-    odd_even(std::integral_constant<int, 7>{}, a, a2);
+    odd_even(7);
   } else if (norm1 <= theta9) {
-    odd_even(std::integral_constant<int, 9>{}, a, a2);
+    odd_even(9);
   } else {
     // Scale A by 2^−s so that its norm is at most θ13, then square s times (Higham 2005, alg. 2.3).
     squarings = norm1 > theta13 ? static_cast<int>(std::ceil(std::log2(norm1 / theta13))) : 0;
@@ -126,7 +125,7 @@ template <typename T, int N>
     const Mat as2 = (scale * scale) * a2;
     const Mat as4 = detail::product(as2, as2);
     const Mat as6 = detail::product(as4, as2);
-    constexpr auto c = [](int j) { return detail::pade_coefficient<13>(j); };
+    constexpr auto c = [](int j) { return detail::pade_coefficient(13, j); };
     Mat inner_u = T(c(13)) * as6 + T(c(11)) * as4 + T(c(9)) * as2;
     Mat tu = detail::product(as6, inner_u);
     tu += T(c(7)) * as6 + T(c(5)) * as4 + T(c(3)) * as2 + T(c(1)) * id;
