@@ -6,6 +6,7 @@
 // A violated invariant prints what broke and aborts, which libFuzzer reports as a crash (and writes the input).
 // To see the values an input stands for: KEEL_FUZZ_TRACE=1 build/asan-clang/fuzz/keel_fuzz_<family> <file>
 
+#include <cmath>
 #include <cstdint>
 #include <cstdio>
 #include <cstdlib>

@@ -143,8 +143,9 @@ Eigen::Matrix<T, R, C> weighted_outer(const Eigen::Matrix<T, R, 2 * N + 1>& a, c
 /// \bar y)(\cdot)^T,\ P_{xy} = \sum W^c_i (\chi_i - m)(\mathcal{Y}_i \boxminus \bar y)^T \f$.
 /// Extra arguments are passed to g after x.
 /// \returns Transformed with status ok, non_finite (an input, the rule's weights or the result is not finite),
-/// negative_variance (the covariance has a negative diagonal entry), or not_positive_definite (the covariance is indefinite, or the transformed covariance has a negative diagonal
-/// entry, which a negative centre weight can cause).
+/// negative_variance (the covariance has a negative diagonal entry), or not_positive_definite (the covariance is
+/// indefinite, or the transformed covariance has a negative diagonal entry, which a negative centre weight can
+/// cause).
 template <template <typename, int> class E, typename T, int N, typename G, typename... A>
 [[nodiscard]] auto unscented_transform(const G& g, const E<T, N>& est, const SigmaRule& rule,
                                        const A&... args) noexcept {

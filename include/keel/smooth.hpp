@@ -72,7 +72,8 @@ template <typename T, int N>
   }
   // Dry run: the whole backward pass through one local estimate, so that a failure anywhere (an indefinite
   // predicted covariance, an overflow, a lost diagonal) leaves `smoothed` untouched. Then the same pass again,
-  // writing: it repeats the dry run's arithmetic exactly, so it cannot fail.
+  // writing: the same arithmetic on the same values, so it does not fail; its status is still checked, in case
+  // a compiler contracts the two call sites differently.
   Gaussian<T, N> next = filtered[count - 1];
   detail::symmetrize(next.cov);  // as every smoothed covariance (the input may be slightly off)
   const Gaussian<T, N> last = next;
@@ -82,7 +83,8 @@ template <typename T, int N>
   }
   smoothed[count - 1] = last;
   for (std::size_t k = count - 1; k-- > 0;) {
-    (void)detail::rts_step(filtered[k], predicted[k], f[k], smoothed[k + 1], smoothed[k]);
+    const Status s = detail::rts_step(filtered[k], predicted[k], f[k], smoothed[k + 1], smoothed[k]);
+    if (s != Status::ok) return s;
   }
   return Status::ok;
 }
