@@ -11,6 +11,7 @@
 #include <keel/ud.hpp>
 
 #include "baselines/baselines.hpp"
+#include "baselines/loops_baseline.hpp"
 #include "problem.hpp"
 
 namespace keel_bench {
@@ -68,6 +69,27 @@ void bm_keel(benchmark::State& state) {
     benchmark::ClobberMemory();
   }
   state.counters["flops"] = benchmark::Counter(kf_step_flops(N, M), benchmark::Counter::kIsIterationInvariantRate);
+}
+
+/// predict/joseph and correct/joseph: one kernel alone, each iteration from the same prior (copied in: N² + N
+/// scalars, included in the time), so the covariance neither grows without bound nor converges.
+template <typename T, int N, int M, bool Predict>
+void bm_alone(benchmark::State& state) {
+  const Problem<T, N, M> pr;
+  const keel::Gaussian<T, N> prior = initial_estimate<T, N, M, Variant::joseph>(pr);
+  keel::Gaussian<T, N> est;
+  for (auto _ : state) {
+    est = prior;
+    benchmark::DoNotOptimize(est);
+    keel::Status s;
+    if constexpr (Predict) s = keel::predict(est, pr.f, pr.q);
+    else s = keel::correct(est, pr.h, pr.r, pr.z).status;
+    if (s != keel::Status::ok) std::abort();
+    benchmark::DoNotOptimize(est);
+    benchmark::ClobberMemory();
+  }
+  state.counters["flops"] = benchmark::Counter(Predict ? predict_flops(N) : correct_flops(N, M),
+                                               benchmark::Counter::kIsIterationInvariantRate);
 }
 
 template <typename T, int N, int M>
@@ -175,10 +197,10 @@ void register_kf_step() {
   benchmark::RegisterBenchmark(("kf_step/dynamic_baseline" + tail).c_str(),
                                bm_baseline<DynamicState<T, N, M>, T, N, M>);
   benchmark::RegisterBenchmark(("kf_step/loops_baseline" + tail).c_str(), bm_baseline<LoopsState<T, N, M>, T, N, M>);
+  benchmark::RegisterBenchmark(("predict/joseph" + tail).c_str(), bm_alone<T, N, M, true>);
+  benchmark::RegisterBenchmark(("correct/joseph" + tail).c_str(), bm_alone<T, N, M, false>);
 }
 
-void register_float();
-void register_double();
 void register_nonlinear();  // nonlinear_step.cpp: ekf_step and ukf_step
 
 }  // namespace keel_bench

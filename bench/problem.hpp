@@ -15,6 +15,10 @@ constexpr double kf_step_flops(int n, int m) {
   return 8 * N * N * N + 8 * N * N * M + 6 * N * M * M + M * M * M / 3;
 }
 
+/// The predict and the correct parts of kf_step_flops (F x, F P, (F P) Fᵀ: 4n³ + 2n²; the rest of the step).
+constexpr double predict_flops(int n) { return 4.0 * n * n * n + 2.0 * n * n; }
+constexpr double correct_flops(int n, int m) { return kf_step_flops(n, m) - 4.0 * n * n * n; }
+
 template <typename T, int N, int M>
 struct Problem {
   Eigen::Matrix<T, N, N> f, q, p0;

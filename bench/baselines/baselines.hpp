@@ -12,9 +12,4 @@ void dynamic_step(Eigen::Matrix<T, Eigen::Dynamic, 1>& x, Eigen::Matrix<T, Eigen
                   const Eigen::Matrix<T, Eigen::Dynamic, Eigen::Dynamic>& h,
                   const Eigen::Matrix<T, Eigen::Dynamic, Eigen::Dynamic>& r, const Eigen::Matrix<T, Eigen::Dynamic, 1>& z);
 
-/// Fixed-size C arrays and nested loops; Cholesky of S, gain by substitution, Joseph form written out.
-template <typename T, int N, int M>
-void loops_step(T (&x)[N], T (&p)[N][N], const T (&f)[N][N], const T (&q)[N][N], const T (&h)[M][N],
-                const T (&r)[M][M], const T (&z)[M]);
-
 }  // namespace keel_bench

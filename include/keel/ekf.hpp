@@ -206,7 +206,7 @@ template <template <typename, int> class E, typename T, int N, typename H, typen
     if (inn.status != Status::ok) return inn;
     Eigen::Matrix<T, N, M> k;
     detail::right_solve_spd(l, pht, k);
-    inn.status = detail::apply_gain(est, jac, rm, inn.residual, pht, k, joseph_form);
+    inn.status = detail::apply_gain(est, inn.cov, inn.residual, pht, k, joseph_form);
     return inn;
   } else {
     return detail::sqrt_correct_residual(est, jac, rm, y, gate);
@@ -248,6 +248,7 @@ template <typename T, int N, typename H, typename DR, typename DZ>
   Eigen::Matrix<T, N, M> k;
   detail::right_solve_spd(l, pht, k);
   Eigen::Matrix<T, N, 1> xi = est.mean + k * inn.residual;
+  Eigen::Matrix<T, M, M> s = inn.cov;  // S at the last linearization point
   for (int it = 1; it < control.max_iterations; ++it) {
     detail::value_and_jacobian(h, xi, zhat, jac);
     if (!detail::all_finite(xi) || !detail::all_finite(jac)) {
@@ -255,7 +256,7 @@ template <typename T, int N, typename H, typename DR, typename DZ>
       return inn;
     }
     pht.noalias() = est.cov.lazyProduct(jac.transpose());
-    Eigen::Matrix<T, M, M> s = rm;
+    s = rm;
     s.noalias() += jac.lazyProduct(pht);
     detail::symmetrize(s);
     l = s;
@@ -271,7 +272,7 @@ template <typename T, int N, typename H, typename DR, typename DZ>
     xi = next;
     if (static_cast<double>(step) <= control.tolerance * (1.0 + static_cast<double>(xi.norm()))) break;
   }
-  Eigen::Matrix<T, N, N> p = detail::joseph_covariance(est.cov, jac, rm, pht, k);
+  Eigen::Matrix<T, N, N> p = detail::joseph_covariance(est.cov, s, pht, k);
   detail::symmetrize(p);
   if (!detail::all_finite(xi) || !detail::all_finite(p)) {
     inn.status = Status::non_finite;

@@ -20,39 +20,29 @@ namespace keel {
 
 namespace detail {
 
-/// \brief Common validation of a correction's inputs; returns ok or the status to report.
-template <typename T, int N, typename H, typename R, typename Z>
-Status check_correction_inputs(const Gaussian<T, N>& est, const H& h, const R& r, const Z& z) noexcept {
-  if (!all_finite(est.mean) || !all_finite(est.cov) || !all_finite(h) || !all_finite(r) || !all_finite(z))
-    return Status::non_finite;
-  if (!diagonal_nonnegative(est.cov) || !diagonal_nonnegative(r)) return Status::negative_variance;
-  return Status::ok;
-}
-
-/// \brief Joseph-form covariance after a gain K, evaluated with rank-M corrections instead of forming I − KH:
-/// \f$ C = P - K (HP),\; P^+ = C - (C H^T) K^T + K R K^T \f$, which equals \f$ (I-KH)P(I-KH)^T + KRK^T \f$
-/// term by term. Cost O(N²M + NM²) instead of O(N³). `pht` is P Hᵀ (so HP = pht ᵀ for symmetric P).
+/// \brief Joseph-form covariance after a gain K, expanded into rank-M corrections instead of forming I − KH.
+/// With U = P Hᵀ and S = H P Hᵀ + R,
+/// \f$ (I-KH)P(I-KH)^T + KRK^T = P - KU^T - UK^T + KSK^T = P - KU^T - WK^T,\ W = U - KS \f$,
+/// exactly, for any gain K: so, as in the congruence form, an error δK in the gain changes P⁺ only by
+/// \f$ \delta K\, S\, \delta K^T \f$ (second order). For the optimal gain W is rounding-level and P⁺ is the standard
+/// form plus that correction. Cost 2N²M + NM² multiply-adds (the congruence form costs 4N³ + O(N²M)).
 template <typename T, int N, int M>
-Eigen::Matrix<T, N, N> joseph_covariance(const Eigen::Matrix<T, N, N>& p, const Eigen::Matrix<T, M, N>& h,
-                                         const Eigen::Matrix<T, M, M>& r, const Eigen::Matrix<T, N, M>& pht,
+Eigen::Matrix<T, N, N> joseph_covariance(const Eigen::Matrix<T, N, N>& p, const Eigen::Matrix<T, M, M>& s,
+                                         const Eigen::Matrix<T, N, M>& pht,
                                          const Eigen::Matrix<T, N, M>& k) noexcept {
+  Eigen::Matrix<T, N, M> w = pht;
+  w.noalias() -= k.lazyProduct(s);
   Eigen::Matrix<T, N, N> c = p;
   c.noalias() -= k.lazyProduct(pht.transpose());
-  Eigen::Matrix<T, N, M> cht;
-  cht.noalias() = c.lazyProduct(h.transpose());
-  Eigen::Matrix<T, N, M> kr;
-  kr.noalias() = k.lazyProduct(r);
-  c.noalias() -= cht.lazyProduct(k.transpose());
-  c.noalias() += kr.lazyProduct(k.transpose());
+  c.noalias() -= w.lazyProduct(k.transpose());
   return c;
 }
 
 /// \brief Shared tail of the vector corrections: given the gain, form the new mean and covariance,
 /// validate them, and commit to `est` only on success.
 template <typename T, int N, int M, typename Form>
-Status apply_gain(Gaussian<T, N>& est, const Eigen::Matrix<T, M, N>& h, const Eigen::Matrix<T, M, M>& r,
-                  const Eigen::Matrix<T, M, 1>& y, const Eigen::Matrix<T, N, M>& pht,
-                  const Eigen::Matrix<T, N, M>& k, Form) noexcept {
+Status apply_gain(Gaussian<T, N>& est, const Eigen::Matrix<T, M, M>& s, const Eigen::Matrix<T, M, 1>& y,
+                  const Eigen::Matrix<T, N, M>& pht, const Eigen::Matrix<T, N, M>& k, Form) noexcept {
   Eigen::Matrix<T, N, 1> x = est.mean;
   x.noalias() += k * y;
   Eigen::Matrix<T, N, N> p;
@@ -60,7 +50,7 @@ Status apply_gain(Gaussian<T, N>& est, const Eigen::Matrix<T, M, N>& h, const Ei
     p = est.cov;
     p.noalias() -= k.lazyProduct(pht.transpose());
   } else {
-    p = joseph_covariance(est.cov, h, r, pht, k);
+    p = joseph_covariance(est.cov, s, pht, k);
   }
   symmetrize(p);
   if (!all_finite(x) || !all_finite(p)) return Status::non_finite;
@@ -90,7 +80,7 @@ Status nis_and_gate(const Eigen::Matrix<T, M, M>& l, Innovation<T, M>& inn, cons
 }
 
 /// \brief The innovation of a correction whose residual y is already formed (z − Hx for the linear filter,
-/// the model's residual(z, h(x)) for the EKF): validates the inputs, forms PHᵀ, S = HPHᵀ + R and its Cholesky
+/// the model's residual(z, h(x)) for the EKF): checks the variances, forms PHᵀ, S = HPHᵀ + R and its Cholesky
 /// factor L, the NIS, and applies the gate. Status ok means "go on and apply a gain".
 template <typename T, int N, int M>
 Innovation<T, M> innovate_residual(const Gaussian<T, N>& est, const Eigen::Matrix<T, M, N>& h,
@@ -98,16 +88,24 @@ Innovation<T, M> innovate_residual(const Gaussian<T, N>& est, const Eigen::Matri
                                    const Gate<T>& gate, Eigen::Matrix<T, N, M>& pht,
                                    Eigen::Matrix<T, M, M>& l) noexcept {
   Innovation<T, M> inn;
-  inn.status = check_correction_inputs(est, h, r, y);
-  if (inn.status != Status::ok) return inn;
+  if (diagonal_has_negative(est.cov) || diagonal_has_negative(r)) {
+    inn.status = Status::negative_variance;
+    return inn;
+  }
   inn.residual = y;
   pht.noalias() = est.cov.lazyProduct(h.transpose());
   inn.cov = r;
   inn.cov.noalias() += h.lazyProduct(pht);
   symmetrize(inn.cov);
+  // Every entry of x, P, H, R and z reaches y or S (the products sum over all their terms, and 0·NaN, 0·Inf and
+  // Inf − Inf are NaN): checking these M + M² values covers all the inputs; the results are checked again.
+  if (!all_finite(inn.residual) || !all_finite(inn.cov)) {
+    inn.status = Status::non_finite;
+    return inn;
+  }
   l = inn.cov;
   if (!cholesky_in_place(l)) {
-    inn.status = all_finite(inn.cov) ? Status::not_positive_definite : Status::non_finite;
+    inn.status = Status::not_positive_definite;
     return inn;
   }
   inn.status = nis_and_gate(l, inn, gate);
@@ -178,10 +176,9 @@ template <typename T, int N, typename DF, typename DQ>
   detail::check_predict_dims<T, N, DF, DQ>();
   const auto& fm = f.eval();
   const auto& qm = q.eval();
-  if (!detail::all_finite(est.mean) || !detail::all_finite(est.cov) || !detail::all_finite(fm) ||
-      !detail::all_finite(qm))
-    return Status::non_finite;
-  if (!detail::diagonal_nonnegative(est.cov) || !detail::diagonal_nonnegative(qm)) return Status::negative_variance;
+  if (detail::diagonal_has_negative(est.cov) || detail::diagonal_has_negative(qm)) return Status::negative_variance;
+  // Every entry of x, P, F and Q reaches the results (the products sum over all their terms, and 0·NaN, 0·Inf and
+  // Inf − Inf are NaN), so the finiteness check of the results below covers the inputs.
   Eigen::Matrix<T, N, 1> x;
   x.noalias() = fm * est.mean;
   Eigen::Matrix<T, N, N> fp;
@@ -238,15 +235,15 @@ template <typename T, int N, typename DH, typename DR, typename DZ, typename For
                 "keel::correct: the form must be keel::joseph_form or keel::standard_form");
   detail::check_correct_dims<T, N, DH, DR, DZ>();
   constexpr int M = detail::rows_v<DZ>;
-  const Eigen::Matrix<T, M, N> hm = h;
-  const Eigen::Matrix<T, M, M> rm = r;
+  const auto& hm = h.eval();  // a reference when H is already a plain matrix: no copy on the stack
+  const auto& rm = r.eval();
   Eigen::Matrix<T, N, M> pht;
   Eigen::Matrix<T, M, M> l;
-  Innovation<T, M> inn = detail::innovate(est, hm, rm, z.eval(), gate, pht, l);
+  Innovation<T, M> inn = detail::innovate<T, N, M>(est, hm, rm, z.eval(), gate, pht, l);
   if (inn.status != Status::ok) return inn;
   Eigen::Matrix<T, N, M> k;
   detail::right_solve_spd(l, pht, k);
-  inn.status = detail::apply_gain(est, hm, rm, inn.residual, pht, k, form);
+  inn.status = detail::apply_gain(est, inn.cov, inn.residual, pht, k, form);
   return inn;
 }
 
@@ -273,8 +270,8 @@ template <typename T, int N, typename DH, typename DR, typename DZ, typename DK>
   static_assert(detail::rows_v<DK> == N && detail::cols_v<DK> == M,
                 "keel::correct_with_gain: K must be N×M (N states, M measurement entries)");
   static_assert(std::is_same_v<typename DK::Scalar, T>, "keel::correct_with_gain: K must have the estimate's scalar type");
-  const Eigen::Matrix<T, M, N> hm = h;
-  const Eigen::Matrix<T, M, M> rm = r;
+  const auto& hm = h.eval();
+  const auto& rm = r.eval();
   const Eigen::Matrix<T, N, M> k = gain;
   if (!detail::all_finite(k)) {
     Innovation<T, M> bad;
@@ -283,17 +280,17 @@ template <typename T, int N, typename DH, typename DR, typename DZ, typename DK>
   }
   Eigen::Matrix<T, N, M> pht;
   Eigen::Matrix<T, M, M> l;
-  Innovation<T, M> inn = detail::innovate(est, hm, rm, z.eval(), gate, pht, l);
+  Innovation<T, M> inn = detail::innovate<T, N, M>(est, hm, rm, z.eval(), gate, pht, l);
   if (inn.status != Status::ok) return inn;
-  inn.status = detail::apply_gain(est, hm, rm, inn.residual, pht, k, joseph_form);
+  inn.status = detail::apply_gain(est, inn.cov, inn.residual, pht, k, joseph_form);
   return inn;
 }
 
 /// \brief Sequential scalar measurement update for a diagonal R = diag(r): one scalar correction per row of H,
 /// no matrix factorization or inverse (the rows are processed in order; the result equals the vector update
 /// because the measurement noises are uncorrelated). For row i with \f$ h = H_i,\; b = P h^T \f$:
-/// \f$ s = h b + r_i,\; k = b / s,\; x \leftarrow x + k (z_i - h x) \f$ and the Joseph form in O(N²):
-/// \f$ C = P - k b^T,\; P \leftarrow C - (C h^T) k^T + r_i k k^T \f$.
+/// \f$ s = h b + r_i,\; k = b / s,\; x \leftarrow x + k (z_i - h x) \f$ and the Joseph form in O(N²), expanded
+/// as in correct(): \f$ P \leftarrow P - k b^T - w k^T,\ w = b - k s \f$.
 /// The reported NIS is \f$ \sum_i y_i^2 / s_i \f$, which equals \f$ y^T S^{-1} y \f$ of the joint update
 /// (the sequential innovations are the Cholesky-whitened joint innovation), so the gate means the same.
 /// The reported residual and covariance are those of the joint update, z − Hx and HPHᵀ + R, at the prior.
@@ -347,10 +344,9 @@ template <typename T, int N, typename DH, typename DR, typename DZ>
     k = b / s;
     nis += yi * yi / s;
     x += k * yi;
+    c = b - k * s;
     p.noalias() -= k * b.transpose();
-    c.noalias() = p * hi.transpose();
     p.noalias() -= c * k.transpose();
-    p.noalias() += (r(i) * k) * k.transpose();
     detail::symmetrize(p);
   }
   inn.nis = nis;

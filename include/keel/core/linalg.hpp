@@ -46,30 +46,45 @@ constexpr bool is_finite(T x) noexcept {
   }
 }
 
-/// \brief True when every entry of a is finite. Same exponent-bit test as is_finite, accumulated without early exit
-/// over contiguous storage so that the compiler vectorizes it (this check runs on every input of every kernel).
+/// \brief True when every entry of a is finite. Same exponent-bit test as is_finite, without early exit and with
+/// one add per entry: an entry is non-finite exactly when its exponent bits are all ones, i.e. when its magnitude
+/// bits plus one unit of the exponent's last place carry into the sign bit; the sums are OR-ed and the sign bit
+/// read once. The loop vectorizes on the host and costs four instructions per entry on a Cortex-M4 (this check
+/// runs on the inputs and results of every kernel).
 template <typename Derived>
 bool all_finite(const Eigen::MatrixBase<Derived>& a) noexcept {
   using T = typename Derived::Scalar;
   using Bits = std::conditional_t<std::is_same_v<T, float>, std::uint32_t, std::uint64_t>;
-  constexpr Bits exponent = std::is_same_v<T, float> ? Bits(0x7f800000u) : Bits(0x7ff0000000000000ull);
+  constexpr Bits sign = Bits(1) << (8 * sizeof(Bits) - 1);
+  constexpr Bits exponent_ulp = std::is_same_v<T, float> ? Bits(0x00800000u) : Bits(0x0010000000000000ull);
+  Bits acc = 0;
+  const auto add = [&acc](const T& v) {
+    Bits bits = 0;
+    std::memcpy(&bits, &v, sizeof bits);
+    acc |= (bits & ~sign) + exponent_ulp;
+  };
   const auto& m = a.derived();
-  if constexpr (Derived::IsVectorAtCompileTime || (static_cast<int>(Derived::Flags) & Eigen::DirectAccessBit) != 0) {
-    if (m.innerStride() == 1 && (m.outerStride() == m.innerSize() || m.outerSize() == 1)) {
-      const T* data = m.data();
-      unsigned bad = 0;
-      for (Eigen::Index i = 0; i < m.size(); ++i) {
-        Bits bits = 0;
-        std::memcpy(&bits, data + i, sizeof bits);
-        bad |= static_cast<unsigned>((bits & exponent) == exponent);
-      }
-      return bad == 0;
-    }
+  if constexpr (std::is_base_of_v<Eigen::PlainObjectBase<Derived>, Derived>) {
+    const T* data = m.data();  // plain matrices and vectors: contiguous
+    for (Eigen::Index i = 0; i < m.size(); ++i) add(data[i]);
+  } else {
+    for (Eigen::Index j = 0; j < m.cols(); ++j)
+      for (Eigen::Index i = 0; i < m.rows(); ++i) add(m.coeff(i, j));
   }
-  for (Eigen::Index j = 0; j < a.cols(); ++j)
-    for (Eigen::Index i = 0; i < a.rows(); ++i)
-      if (!is_finite(a.coeff(i, j))) return false;
-  return true;
+  return (acc & sign) == 0;
+}
+
+/// \brief True when some diagonal entry is a finite negative number (a negative variance). NaN and ±Inf are not
+/// reported here: they are left to the finiteness check of the results they poison, which says non_finite.
+template <typename Derived>
+bool diagonal_has_negative(const Eigen::MatrixBase<Derived>& a) noexcept {
+  using T = typename Derived::Scalar;
+  bool negative = false;
+  for (Eigen::Index i = 0; i < a.rows(); ++i) {
+    const T d = a.coeff(i, i);
+    negative |= d < T(0) && d >= std::numeric_limits<T>::lowest();
+  }
+  return negative;
 }
 
 /// \brief True when every diagonal entry is >= 0 (a variance). NaN fails.

@@ -1,6 +1,7 @@
+#pragma once
+// Fixed-size C arrays and nested loops, as a user would write the step without a library (header: each size
+// translation unit of the bench instantiates it).
 #include <cmath>
-
-#include "baselines.hpp"
 
 namespace keel_bench {
 
@@ -90,15 +91,5 @@ void loops_step(T (&x)[N], T (&p)[N][N], const T (&f)[N][N], const T (&q)[N][N],
       p[i][j] = v;
     }
 }
-
-#define KEEL_BENCH_LOOPS(T, N, M)                                                                       \
-  template void loops_step<T, N, M>(T(&)[N], T(&)[N][N], const T(&)[N][N], const T(&)[N][N], const T(&)[M][N], \
-                                    const T(&)[M][M], const T(&)[M]);
-KEEL_BENCH_LOOPS(float, 4, 2)
-KEEL_BENCH_LOOPS(float, 6, 3)
-KEEL_BENCH_LOOPS(float, 12, 6)
-KEEL_BENCH_LOOPS(double, 4, 2)
-KEEL_BENCH_LOOPS(double, 6, 3)
-KEEL_BENCH_LOOPS(double, 12, 6)
 
 }  // namespace keel_bench
