@@ -25,6 +25,7 @@ void bm_gemm(benchmark::State& state) {
 }  // namespace
 
 int main(int argc, char** argv) {
+  for (void (*r)() : keel_bench::size_registrars()) r();
   keel_bench::register_nonlinear();
   benchmark::RegisterBenchmark("peak/gemm/float/256x256", bm_gemm<float>);
   benchmark::RegisterBenchmark("peak/gemm/double/256x256", bm_gemm<double>);
