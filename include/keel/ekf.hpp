@@ -201,7 +201,7 @@ template <template <typename, int> class E, typename T, int N, typename H, typen
   const Eigen::Matrix<T, M, M> rm = r;
   if constexpr (std::is_same_v<E<T, N>, Gaussian<T, N>>) {
     Eigen::Matrix<T, N, M> pht;
-    Eigen::Matrix<T, M, M> l;
+    detail::Ldl<T, M> l;
     inn = detail::innovate_residual(est, jac, rm, y, gate, pht, l);
     if (inn.status != Status::ok) return inn;
     Eigen::Matrix<T, N, M> k;
@@ -242,7 +242,7 @@ template <typename T, int N, typename H, typename DR, typename DZ>
   Eigen::Matrix<T, M, N> jac;
   detail::value_and_jacobian(h, est.mean, zhat, jac);
   Eigen::Matrix<T, N, M> pht;
-  Eigen::Matrix<T, M, M> l;
+  detail::Ldl<T, M> l;
   inn = detail::innovate_residual(est, jac, rm, detail::model_residual(h, zm, zhat), gate, pht, l);
   if (inn.status != Status::ok) return inn;
   Eigen::Matrix<T, N, M> k;
@@ -259,8 +259,7 @@ template <typename T, int N, typename H, typename DR, typename DZ>
     s = rm;
     s.noalias() += jac.lazyProduct(pht);
     detail::symmetrize(s);
-    l = s;
-    if (!detail::cholesky_in_place(l)) {
+    if (!detail::ldl_factor(s, l)) {
       inn.status = Status::not_positive_definite;
       return inn;
     }
