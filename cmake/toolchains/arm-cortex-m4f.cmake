@@ -1,13 +1,3 @@
-# Cortex-M4F (single-precision FPU), bare metal, Debian's arm-none-eabi GCC with newlib.
-set(CMAKE_SYSTEM_NAME Generic)
-set(CMAKE_SYSTEM_PROCESSOR arm)
-set(CMAKE_C_COMPILER arm-none-eabi-gcc)
-set(CMAKE_CXX_COMPILER arm-none-eabi-g++)
-set(CMAKE_TRY_COMPILE_TARGET_TYPE STATIC_LIBRARY)
+# Cortex-M4F (single-precision FPU; QEMU board mps2-an386).
 set(KEEL_TARGET_CPU_FLAGS "-mcpu=cortex-m4 -mthumb -mfpu=fpv4-sp-d16 -mfloat-abi=hard")
-set(KEEL_TARGET_QEMU_MACHINE mps2-an386)
-set(KEEL_TARGET_NAME m4f)
-set(CMAKE_C_FLAGS_INIT "${KEEL_TARGET_CPU_FLAGS}")
-set(CMAKE_CXX_FLAGS_INIT "${KEEL_TARGET_CPU_FLAGS}")
-set(CMAKE_EXE_LINKER_FLAGS_INIT "${KEEL_TARGET_CPU_FLAGS}")
-set(CMAKE_FIND_ROOT_PATH_MODE_PROGRAM NEVER)
+include(${CMAKE_CURRENT_LIST_DIR}/arm-none-eabi.cmake)

@@ -1,13 +1,3 @@
-# Cortex-M7 (double-precision FPU), bare metal, Debian's arm-none-eabi GCC with newlib.
-set(CMAKE_SYSTEM_NAME Generic)
-set(CMAKE_SYSTEM_PROCESSOR arm)
-set(CMAKE_C_COMPILER arm-none-eabi-gcc)
-set(CMAKE_CXX_COMPILER arm-none-eabi-g++)
-set(CMAKE_TRY_COMPILE_TARGET_TYPE STATIC_LIBRARY)
+# Cortex-M7 (double-precision FPU; QEMU board mps2-an500).
 set(KEEL_TARGET_CPU_FLAGS "-mcpu=cortex-m7 -mthumb -mfpu=fpv5-d16 -mfloat-abi=hard")
-set(KEEL_TARGET_QEMU_MACHINE mps2-an500)
-set(KEEL_TARGET_NAME m7)
-set(CMAKE_C_FLAGS_INIT "${KEEL_TARGET_CPU_FLAGS}")
-set(CMAKE_CXX_FLAGS_INIT "${KEEL_TARGET_CPU_FLAGS}")
-set(CMAKE_EXE_LINKER_FLAGS_INIT "${KEEL_TARGET_CPU_FLAGS}")
-set(CMAKE_FIND_ROOT_PATH_MODE_PROGRAM NEVER)
+include(${CMAKE_CURRENT_LIST_DIR}/arm-none-eabi.cmake)
