@@ -46,6 +46,22 @@ TEST_CASE("correct_sequential: a joint innovation covariance that overflows is n
   const auto inn = keel::correct_sequential(est, h, Eigen::Vector2d(-0.0, -0.0), Eigen::Vector2d(-0.0, -0.0));
   CHECK(inn.status == Status::non_finite);
   CHECK(same_bits(est, before));
+
+  // Control with the same call and a moderate covariance: accepted, and equal to the joint update with
+  // R = diag(r) (for uncorrelated measurement noise the scalar updates in sequence are the joint update:
+  // Bierman, "Factorization Methods for Discrete Sequential Estimation", 1977, ch. II; from memory).
+  keel::Gaussian<double, 3> good;
+  good.mean << 1.0, -2.0, 0.5;
+  good.cov << 2.0, 0.3, 0.1, 0.3, 1.0, -0.2, 0.1, -0.2, 0.5;
+  keel::Gaussian<double, 3> joint = good;
+  const Eigen::Vector2d r(0.5, 0.25);
+  const Eigen::Vector2d z(0.7, 0.1);
+  h << 1.0, 0.5, 0.0, 0.0, -1.0, 2.0;
+  REQUIRE(keel::correct_sequential(good, h, r, z).status == Status::ok);
+  REQUIRE(keel::correct(joint, h, Eigen::Matrix2d(r.asDiagonal()), z).status == Status::ok);
+  // Both are O(1)-conditioned 3-state updates: agreement to a few hundred ε.
+  CHECK((good.mean - joint.mean).cwiseAbs().maxCoeff() <= 1e-13);
+  CHECK((good.cov - joint.cov).cwiseAbs().maxCoeff() <= 1e-13);
 }
 
 TEST_CASE("UD correct: an innovation covariance that overflows float is non_finite") {

@@ -26,15 +26,18 @@ namespace detail {
 /// exactly, for any gain K: so, as in the congruence form, an error δK in the gain changes P⁺ only by
 /// \f$ \delta K\, S\, \delta K^T \f$ (second order). For the optimal gain W is rounding-level and P⁺ is the standard
 /// form plus that correction. Cost 2N²M + NM² multiply-adds (the congruence form costs 4N³ + O(N²M)).
-template <typename T, int N, int M>
+/// With standard_form_t: P − KUᵀ only. Returned by value into the caller's matrix (no temporary on the stack).
+template <typename Form = joseph_form_t, typename T, int N, int M>
 Eigen::Matrix<T, N, N> joseph_covariance(const Eigen::Matrix<T, N, N>& p, const Eigen::Matrix<T, M, M>& s,
                                          const Eigen::Matrix<T, N, M>& pht,
                                          const Eigen::Matrix<T, N, M>& k) noexcept {
-  Eigen::Matrix<T, N, M> w = pht;
-  w.noalias() -= k.lazyProduct(s);
   Eigen::Matrix<T, N, N> c = p;
   c.noalias() -= k.lazyProduct(pht.transpose());  // rank-M products: the lazy product is faster at every size measured
-  c.noalias() -= w.lazyProduct(k.transpose());
+  if constexpr (!std::is_same_v<Form, standard_form_t>) {
+    Eigen::Matrix<T, N, M> w = pht;
+    w.noalias() -= k.lazyProduct(s);
+    c.noalias() -= w.lazyProduct(k.transpose());
+  }
   return c;
 }
 
@@ -45,15 +48,8 @@ Status apply_gain(Gaussian<T, N>& est, const Eigen::Matrix<T, M, M>& s, const Ei
                   const Eigen::Matrix<T, N, M>& pht, const Eigen::Matrix<T, N, M>& k, Form) noexcept {
   Eigen::Matrix<T, N, 1> x = est.mean;
   x.noalias() += k * y;
-  Eigen::Matrix<T, N, N> p;
-  if constexpr (std::is_same_v<Form, standard_form_t>) {
-    p = est.cov;
-    p.noalias() -= k.lazyProduct(pht.transpose());
-  } else {
-    p = joseph_covariance(est.cov, s, pht, k);
-  }
-  symmetrize(p);
-  if (!all_finite(x) || !all_finite(p)) return Status::non_finite;
+  Eigen::Matrix<T, N, N> p = joseph_covariance<Form>(est.cov, s, pht, k);
+  if (!symmetrize_finite(p) || !all_finite(x)) return Status::non_finite;
   if (!diagonal_nonnegative(p)) return Status::not_positive_definite;
   est.mean = x;
   est.cov = p;
@@ -186,8 +182,7 @@ template <typename T, int N, typename DF, typename DQ>
   detail::product<0>(fp, fm, est.cov);
   Eigen::Matrix<T, N, N> p = qm;
   detail::product<1>(p, fp, fm.transpose());
-  detail::symmetrize(p);
-  if (!detail::all_finite(x) || !detail::all_finite(p)) return Status::non_finite;
+  if (!detail::symmetrize_finite(p) || !detail::all_finite(x)) return Status::non_finite;
   if (!detail::diagonal_nonnegative(p)) return Status::not_positive_definite;
   est.mean = x;
   est.cov = p;
