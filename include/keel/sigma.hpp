@@ -36,11 +36,23 @@ struct SigmaRule {
   double alpha = 1.0;
   double beta = 0.0;
   double kappa = 0.0;
+  /// Manifold states only: the weighted mean of the sigma points is found by iteration (manifold_filter.hpp),
+  /// stopping when the step is at most `mean_tolerance`·(1 + |x̄ ⊟ identity|) (never below 64 ε of the scalar),
+  /// or failing with not_converged after `mean_iterations` steps.
+  int mean_iterations = 20;
+  double mean_tolerance = 1e-9;
 
   static constexpr SigmaRule scaled(double alpha, double beta, double kappa) noexcept {
     return SigmaRule{alpha, beta, kappa};
   }
   static constexpr SigmaRule cubature() noexcept { return SigmaRule{1.0, 0.0, 0.0}; }
+  /// The same rule with another iteration cap and tolerance for the mean on a manifold.
+  constexpr SigmaRule with_mean_iterations(int iterations, double tolerance) const noexcept {
+    SigmaRule r = *this;
+    r.mean_iterations = iterations;
+    r.mean_tolerance = tolerance;
+    return r;
+  }
 
   /// \brief Weights for dimension N (computed in double, then rounded to T once).
   template <typename T, int N>

@@ -11,6 +11,8 @@ enum class [[nodiscard]] Status : unsigned char {
   not_positive_definite,  ///< an innovation covariance could not be factored, or the updated covariance lost its positive diagonal
   negative_variance,      ///< a noise covariance (Q, R) or the estimate's covariance has a negative diagonal entry
   gated,                  ///< the measurement's NIS exceeded the gate; the innovation is still reported
+  not_on_manifold,        ///< a manifold state's mean is not on its manifold (e.g. a quaternion far from unit norm)
+  not_converged,          ///< an iteration (the sigma points' mean on a manifold) reached its cap without converging
 };
 
 /// \brief A short, stable, human-readable name for a status (for logs; no allocation).
@@ -21,6 +23,8 @@ constexpr const char* to_string(Status s) noexcept {
     case Status::not_positive_definite: return "not_positive_definite";
     case Status::negative_variance: return "negative_variance";
     case Status::gated: return "gated";
+    case Status::not_on_manifold: return "not_on_manifold";
+    case Status::not_converged: return "not_converged";
   }
   return "unknown";
 }
