@@ -205,6 +205,7 @@ void register_kf_step() {
 }
 
 void register_nonlinear();  // nonlinear_step.cpp: ekf_step and ukf_step
+void register_manifold();   // manifold_step.cpp: mekf_step and ukf_step/manifold
 
 /// The per-size translation units add their registration here before main runs; main calls them (the start-up
 /// checks then run inside main, not during static initialization).

@@ -27,6 +27,7 @@ void bm_gemm(benchmark::State& state) {
 int main(int argc, char** argv) {
   for (void (*r)() : keel_bench::size_registrars()) r();
   keel_bench::register_nonlinear();
+  keel_bench::register_manifold();
   benchmark::RegisterBenchmark("peak/gemm/float/256x256", bm_gemm<float>);
   benchmark::RegisterBenchmark("peak/gemm/double/256x256", bm_gemm<double>);
   benchmark::Initialize(&argc, argv);
