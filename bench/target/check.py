@@ -19,9 +19,10 @@ import subprocess
 import sys
 
 FORBIDDEN = re.compile(r"\b(malloc|free|calloc|realloc|operator new|operator delete|__cxa_\w+)\b")
-FORMS = ["joseph", "sqrt", "ud", "ekf", "ukf"]
+FORMS = ["joseph", "sqrt", "ud", "ekf", "ukf", "mekf", "ukf_manifold"]
 LABEL = {"joseph": "linear Joseph (predict + correct)", "sqrt": "square root (QR array)",
-         "ud": "UD (Thornton + Bierman)", "ekf": "EKF (analytic Jacobians)", "ukf": "UKF (scaled, 13 points)"}
+         "ud": "UD (Thornton + Bierman)", "ekf": "EKF (analytic Jacobians)", "ukf": "UKF (scaled, 13 points)",
+         "mekf": "attitude error-state EKF (SO(3) + bias)", "ukf_manifold": "attitude UKF on SO(3) (13 points)"}
 
 
 def run(cmd, timeout=120):

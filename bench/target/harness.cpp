@@ -19,8 +19,9 @@ constexpr std::uint32_t kPaint = 0xC5C5C5C5u;
 constexpr int kPaintWords = 4096;  // 16 KiB below main's frame
 
 /// The empty loop's callee: the same call, nothing inside (the compiler may not drop the call).
-__attribute__((noinline)) int empty_step(const Scalar* fix, const Scalar* ranges) {
-  __asm volatile("" : : "r"(fix), "r"(ranges) : "memory");
+__attribute__((noinline)) int empty_step(const Scalar* fix, const Scalar* ranges, const Scalar* gyro,
+                                         const Scalar* accel) {
+  __asm volatile("" : : "r"(fix), "r"(ranges), "r"(gyro), "r"(accel) : "memory");
   return 0;
 }
 
@@ -52,7 +53,8 @@ int main() {
   for (int i = 1; i <= kPaintWords; ++i) top[-i] = kPaint;
   const std::uint32_t t0 = keel_target_counter();
   for (int k = 0; k < keel_target::kSteps && status == 0; ++k)
-    status = keel_target_step(vectors.fix[k].data(), vectors.ranges[k].data());
+    status = keel_target_step(vectors.fix[k].data(), vectors.ranges[k].data(), vectors.gyro[k].data(),
+                              vectors.accel[k].data());
   const std::uint32_t t1 = keel_target_counter();
   int used = 0;
   for (int i = kPaintWords; i >= 1; --i)
@@ -62,7 +64,8 @@ int main() {
     }
   const std::uint32_t t2 = keel_target_counter();
   for (int k = 0; k < keel_target::kSteps && status == 0; ++k)
-    status = empty_step(vectors.fix[k].data(), vectors.ranges[k].data());
+    status = empty_step(vectors.fix[k].data(), vectors.ranges[k].data(), vectors.gyro[k].data(),
+                        vectors.accel[k].data());
   const std::uint32_t t3 = keel_target_counter();
 
   Scalar out[KEEL_TARGET_RESULTS];

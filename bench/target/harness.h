@@ -10,7 +10,8 @@ typedef double keel_target_scalar;
 typedef float keel_target_scalar;
 #endif
 
-/* Values keel_target_results writes: 6 mean entries and the covariance's 21-entry upper triangle. */
+/* Values keel_target_results writes: 6 mean entries (attitude kernels: the attitude's rotation vector and the gyro
+ * bias) and the covariance's 21-entry upper triangle. */
 #define KEEL_TARGET_RESULTS 27
 
 #ifdef __cplusplus
@@ -19,7 +20,10 @@ extern "C" {
 
 /* The kernel under test. Each returns 0 on success, else a keel::Status value. */
 int keel_target_init(void);
-int keel_target_step(const keel_target_scalar* fix, const keel_target_scalar* ranges);
+/* One step's inputs, each a 3-vector: the position fix (linear kernels), the beacon ranges and altitude (EKF, UKF),
+ * the gyro and accelerometer readings (attitude kernels); a kernel reads the ones it needs. */
+int keel_target_step(const keel_target_scalar* fix, const keel_target_scalar* ranges, const keel_target_scalar* gyro,
+                     const keel_target_scalar* accel);
 int keel_target_results(keel_target_scalar* out);
 
 /* A free-running up-counter. The harness's default (a weak symbol) reads SysTick, which under QEMU's -icount

@@ -12,7 +12,7 @@ int run(const char* form) {
   tv.generate();
   keel_target::Kernel<T, F> kernel;
   int status = kernel.init();
-  for (int k = 0; k < keel_target::kSteps && status == 0; ++k) status = kernel.step(tv.fix[k], tv.ranges[k]);
+  for (int k = 0; k < keel_target::kSteps && status == 0; ++k) status = kernel.step(tv.fix[k], tv.ranges[k], tv.gyro[k], tv.accel[k]);
   T out[keel_target::kResults];
   if (status == 0) status = kernel.results(out);
   if (status != 0) {
@@ -28,7 +28,8 @@ template <typename T>
 int run_all() {
   using keel_target::Form;
   return run<T, Form::joseph>("joseph") + run<T, Form::sqrt>("sqrt") + run<T, Form::ud>("ud") +
-         run<T, Form::ekf>("ekf") + run<T, Form::ukf>("ukf");
+         run<T, Form::ekf>("ekf") + run<T, Form::ukf>("ukf") + run<T, Form::mekf>("mekf") +
+         run<T, Form::ukf_manifold>("ukf_manifold");
 }
 
 }  // namespace

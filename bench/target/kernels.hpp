@@ -5,12 +5,16 @@
 // Scenario (ours): a parcel drone's position and velocity in 3-D (6 states, constant velocity, axis-major
 // (p_x, v_x, p_y, v_y, p_z, v_z), 50 Hz). The linear kernels see a position fix (3 measurements); the EKF and
 // UKF see the ranges to two ultra-wideband beacons on the landing pad and the barometric altitude (3
-// measurements). Measurements come from a polynomial trajectory and an integer generator, so the target and the
+// measurements). The attitude kernels (error-state EKF and manifold UKF on attitude and gyro bias, 6 tangent
+// dimensions) see a gyro reading and an accelerometer reading (3 measurements) of a drone waiting tilted on its
+// pad. Measurements come from a polynomial trajectory and an integer generator, so the target and the
 // host get the very same bits (no libm in the data).
 #include <cstdint>
 
 #include <keel/ekf.hpp>
 #include <keel/linear.hpp>
+#include <keel/manifold_filter.hpp>
+#include <keel/models/attitude.hpp>
 #include <keel/models/kinematic.hpp>
 #include <keel/sqrt.hpp>
 #include <keel/ud.hpp>
@@ -107,26 +111,41 @@ template <typename T>
 struct TestVectors {
   Meas<T> fix[kSteps];     // position fix, uniform noise of σ = 0.6/√12 ≈ 0.17 m
   Meas<T> ranges[kSteps];  // two ranges (σ ≈ 0.058 m) and the altitude (σ ≈ 0.12 m)
+  Meas<T> gyro[kSteps];    // at rest: the bias (0.01, −0.02, 0.005) rad/s, uniform noise of σ ≈ 0.006 rad/s
+  Meas<T> accel[kSteps];   // gravity seen tilted, (0.5, −0.3, 9.79) m/s², uniform noise of σ ≈ 0.09 m/s²
   void generate() {
     Noise noise;
+    Noise imu{777u};  // a stream of its own: the other kernels' data stay as they were
     const Eigen::Matrix<T, 3, 2> b = beacons<T>();
     for (int k = 0; k < kSteps; ++k) {
       const Eigen::Matrix<T, 3, 1> p = truth_position<T>(k + 1);
       for (int i = 0; i < 3; ++i) fix[k](i) = p(i) + T(0.6) * noise.next<T>();
       for (int i = 0; i < 2; ++i) ranges[k](i) = (p - b.col(i)).norm() + T(0.2) * noise.next<T>();
       ranges[k](2) = p(2) + T(0.4) * noise.next<T>();
+      gyro[k] = Meas<T>(T(0.01), T(-0.02), T(0.005));
+      accel[k] = Meas<T>(T(0.5), T(-0.3), T(9.79));
+      for (int i = 0; i < 3; ++i) {
+        gyro[k](i) += T(0.02) * imu.next<T>();
+        accel[k](i) += T(0.3) * imu.next<T>();
+      }
     }
   }
 };
 
-enum class Form { joseph, sqrt, ud, ekf, ukf };
+enum class Form { joseph, sqrt, ud, ekf, ukf, mekf, ukf_manifold };
+
+template <Form F>
+constexpr bool is_attitude = F == Form::mekf || F == Form::ukf_manifold;
 
 /// One filter of the given form with its models and noise matrices; step() is what the targets time.
 template <typename T, Form F>
 struct Kernel {
-  using Estimate = std::conditional_t<F == Form::sqrt, keel::SqrtGaussian<T, kStates>,
-                                      std::conditional_t<F == Form::ud, keel::UdGaussian<T, kStates>,
-                                                         keel::Gaussian<T, kStates>>>;
+  using Attitude = keel::models::AttitudeBias<T>;
+  using Estimate = std::conditional_t<
+      F == Form::sqrt, keel::SqrtGaussian<T, kStates>,
+      std::conditional_t<F == Form::ud, keel::UdGaussian<T, kStates>,
+                         std::conditional_t<is_attitude<F>, keel::ManifoldGaussian<Attitude>,
+                                            keel::Gaussian<T, kStates>>>>;
   using Model = keel::models::Kinematic<T, 3, 2>;
   Estimate est;
   Eigen::Matrix<T, kStates, kStates> f = Model::transition(kDt<T>);
@@ -136,6 +155,8 @@ struct Kernel {
   Eigen::Matrix<T, kMeasurements, kMeasurements> r;
   ConstantVelocity<T> motion;
   BeaconsAndBaro<T> sensor;
+  keel::models::GyroStrapdown strapdown;
+  keel::models::ReferenceDirection<T> gravity{Meas<T>(T(0), T(0), T(9.81))};
   keel::SigmaRule rule = keel::SigmaRule::scaled(1.0, 2.0, 0.0);
 
   /// Returns 0 on success, else the failing Status's value.
@@ -149,7 +170,17 @@ struct Kernel {
       r_diag = Meas<T>(T(0.09), T(0.09), T(0.09));
     r = r_diag.asDiagonal();
     keel::Status s = keel::Status::ok;
-    if constexpr (F == Form::sqrt) s = keel::to_sqrt(g, est);
+    if constexpr (is_attitude<F>) {
+      // Level, heading 0.3 rad (a unit quaternion from literals and one square root: the same bits everywhere),
+      // bias unknown: 0.1 rad per axis, 0.02 rad/s; gyro noise 0.006 rad/s over dt, bias walk 1e-5 rad/s per step.
+      est.mean = typename Attitude::Mean(keel::So3<T>::project(Eigen::Quaternion<T>(T(0.989), T(0), T(0), T(0.149))),
+                                         Meas<T>::Zero());
+      est.cov.setZero();
+      est.cov.diagonal() << Meas<T>::Constant(T(0.01)), Meas<T>::Constant(T(4e-4));
+      q.setZero();
+      q.diagonal() << Meas<T>::Constant(T(0.006 * 0.006) * kDt<T> * kDt<T>), Meas<T>::Constant(T(1e-10));
+      r = Eigen::Matrix<T, 3, 3>::Identity() * T(0.0081);
+    } else if constexpr (F == Form::sqrt) s = keel::to_sqrt(g, est);
     else if constexpr (F == Form::ud) s = keel::to_ud(g, est);
     else est = g;
     return static_cast<int>(s);
@@ -157,9 +188,15 @@ struct Kernel {
 
   /// predict + correct with this step's position fix (linear forms) or ranges and altitude (EKF, UKF);
   /// returns 0 on success, else the first failing Status's value.
-  int step(const Meas<T>& fix, const Meas<T>& ranges) {
+  int step(const Meas<T>& fix, const Meas<T>& ranges, const Meas<T>& gyro, const Meas<T>& accel) {
     keel::Status s = keel::Status::ok;
-    if constexpr (F == Form::ekf || F == Form::ukf) {
+    if constexpr (is_attitude<F>) {
+      if constexpr (F == Form::mekf) s = keel::ekf::predict(est, strapdown, q, gyro, kDt<T>);
+      else s = keel::ukf::predict(est, strapdown, q, rule, gyro, kDt<T>);
+      if (s != keel::Status::ok) return static_cast<int>(s);
+      if constexpr (F == Form::mekf) s = keel::ekf::correct(est, gravity, r, accel).status;
+      else s = keel::ukf::correct(est, gravity, r, accel, rule).status;
+    } else if constexpr (F == Form::ekf || F == Form::ukf) {
       if constexpr (F == Form::ekf) s = keel::ekf::predict(est, motion, q);
       else s = keel::ukf::predict(est, motion, q, rule);
       if (s != keel::Status::ok) return static_cast<int>(s);
@@ -178,7 +215,10 @@ struct Kernel {
   int results(T* out) const {
     keel::Gaussian<T, kStates> g;
     keel::Status s = keel::Status::ok;
-    if constexpr (F == Form::sqrt || F == Form::ud) s = keel::to_gaussian(est, g);
+    if constexpr (is_attitude<F>) {
+      g.mean << keel::So3<T>::log(std::get<0>(est.mean)), std::get<1>(est.mean);
+      g.cov = est.cov;
+    } else if constexpr (F == Form::sqrt || F == Form::ud) s = keel::to_gaussian(est, g);
     else g = est;
     int n = 0;
     for (int i = 0; i < kStates; ++i) out[n++] = g.mean(i);
