@@ -151,6 +151,44 @@ struct LinearModel {  // x ↦ A x: the nonlinear kernels' view of a matrix, wit
   Eigen::Matrix<T, 2, 2> jacobian(const Eigen::Matrix<T, 2, 1>&) const noexcept { return a; }
 };
 
+// The manifold kernels' view of the same inputs: heading θ on So2 and one plain coordinate, (θ, v) = x̂, with P
+// as the tangent covariance; the matrix models act on (θ, v) and their tangent Jacobian is the matrix itself.
+template <typename T>
+using Planar = keel::Compound<keel::So2<T>, keel::Euclidean<T, 1>>;
+template <typename T>
+keel::ManifoldGaussian<Planar<T>> manifold_of(const Inputs<T>& in) {
+  keel::ManifoldGaussian<Planar<T>> m;
+  m.mean = typename Planar<T>::Mean(in.est.mean(0), Eigen::Matrix<T, 1, 1>(in.est.mean(1)));
+  m.cov = in.est.cov;
+  return m;
+}
+template <typename T>
+Eigen::Matrix<T, 2, 1> as_vector(const typename Planar<T>::Mean& x) {
+  return Eigen::Matrix<T, 2, 1>(std::get<0>(x), std::get<1>(x)(0));
+}
+template <typename T>
+struct PlanarMotion {  // (θ, v) ↦ A (θ, v), θ wrapped by the space
+  Eigen::Matrix<T, 2, 2> a;
+  typename Planar<T>::Mean operator()(const typename Planar<T>::Mean& x) const noexcept {
+    const Eigen::Matrix<T, 2, 1> y = a * as_vector<T>(x);
+    return typename Planar<T>::Mean(keel::So2<T>::wrap(y(0)), Eigen::Matrix<T, 1, 1>(y(1)));
+  }
+  Eigen::Matrix<T, 2, 2> jacobian(const typename Planar<T>::Mean&) const noexcept { return a; }
+};
+template <typename T>
+struct PlanarSensor {  // (θ, v) ↦ H (θ, v)
+  Eigen::Matrix<T, 2, 2> h;
+  Eigen::Matrix<T, 2, 1> operator()(const typename Planar<T>::Mean& x) const noexcept { return h * as_vector<T>(x); }
+  Eigen::Matrix<T, 2, 2> jacobian(const typename Planar<T>::Mean&) const noexcept { return h; }
+};
+template <typename T>
+Verdict judge_manifold(Status s, const keel::ManifoldGaussian<Planar<T>>& before,
+                       const keel::ManifoldGaussian<Planar<T>>& after) {
+  const Eigen::Matrix<T, 2, 1> b = as_vector<T>(before.mean), a = as_vector<T>(after.mean);
+  return {s, s == Status::ok ? a.allFinite() && after.cov.allFinite()
+                             : same_bits(b, a) && same_bits(before.cov, after.cov)};
+}
+
 constexpr bool is_predict_class(int c) {
   return c != z_bad && c != singular && c != outlier;
 }
@@ -290,6 +328,28 @@ std::vector<std::pair<std::string, Row<T>>> rows() {
     const auto before = s;
     const auto inn = keel::ukf::correct(s, LinearModel<T>{in.h}, in.r, in.z, keel::SigmaRule::cubature(), in.gate);
     return judge(inn.status, before, s);
+  });
+  predict_row("`ekf::predict` (ManifoldGaussian)", [](Inputs<T>& in, int) {
+    auto m = manifold_of(in);
+    const auto before = m;
+    return judge_manifold<T>(keel::ekf::predict(m, PlanarMotion<T>{in.f}, in.q), before, m);
+  });
+  correct_row("`ekf::correct` (ManifoldGaussian)", [](Inputs<T>& in, int) {
+    auto m = manifold_of(in);
+    const auto before = m;
+    return judge_manifold<T>(keel::ekf::correct(m, PlanarSensor<T>{in.h}, in.r, in.z, in.gate).status, before, m);
+  });
+  predict_row("`ukf::predict` (ManifoldGaussian)", [](Inputs<T>& in, int) {
+    auto m = manifold_of(in);
+    const auto before = m;
+    return judge_manifold<T>(keel::ukf::predict(m, PlanarMotion<T>{in.f}, in.q, keel::SigmaRule::cubature()), before,
+                             m);
+  });
+  correct_row("`ukf::correct` (ManifoldGaussian)", [](Inputs<T>& in, int) {
+    auto m = manifold_of(in);
+    const auto before = m;
+    const auto inn = keel::ukf::correct(m, PlanarSensor<T>{in.h}, in.r, in.z, keel::SigmaRule::cubature(), in.gate);
+    return judge_manifold<T>(inn.status, before, m);
   });
   v.emplace_back("`unscented_transform`", [](int c) -> Verdict {
     if (c != mean_bad && c != cov_bad && c != cov_negative && c != cov_indefinite && c != model_bad &&
