@@ -278,6 +278,11 @@ struct Compound {
     reset_impl(d, g, std::index_sequence_for<Parts...>{});
     return g;
   }
+  /// \brief P ← G P Gᵀ for the block-diagonal reset Jacobian G, one curved part at a time (rows then columns of
+  /// its block; flat parts' blocks of G are identities and cost nothing).
+  static void reset_covariance(Eigen::Matrix<Scalar, dof, dof>& p, const Tangent& d) noexcept {
+    reset_cov_impl(p, d, std::index_sequence_for<Parts...>{});
+  }
   static bool finite(const Mean& x) noexcept { return all_of(x, std::index_sequence_for<Parts...>{}, false); }
   static bool on_manifold(const Mean& x) noexcept { return all_of(x, std::index_sequence_for<Parts...>{}, true); }
   static Mean project(const Mean& x) noexcept { return project_impl(x, std::index_sequence_for<Parts...>{}); }
@@ -301,6 +306,22 @@ struct Compound {
     ((g.template block<Part<I>::dof, Part<I>::dof>(offset<I>(), offset<I>()) =
           Part<I>::reset_jacobian(typename Part<I>::Tangent(d.template segment<Part<I>::dof>(offset<I>())))),
      ...);
+  }
+  template <std::size_t I>
+  static void reset_part(Eigen::Matrix<Scalar, dof, dof>& p, const Tangent& d) noexcept {
+    if constexpr (!Part<I>::flat) {
+      constexpr int k = Part<I>::dof, o = offset<I>();
+      const Eigen::Matrix<Scalar, k, k> g =
+          Part<I>::reset_jacobian(typename Part<I>::Tangent(d.template segment<k>(o)));
+      const Eigen::Matrix<Scalar, k, dof> rows = g * p.template middleRows<k>(o);
+      p.template middleRows<k>(o) = rows;
+      const Eigen::Matrix<Scalar, dof, k> cols = p.template middleCols<k>(o) * g.transpose();
+      p.template middleCols<k>(o) = cols;
+    }
+  }
+  template <std::size_t... I>
+  static void reset_cov_impl(Eigen::Matrix<Scalar, dof, dof>& p, const Tangent& d, std::index_sequence<I...>) noexcept {
+    (reset_part<I>(p, d), ...);
   }
   template <std::size_t... I>
   static bool all_of(const Mean& x, std::index_sequence<I...>, bool manifold) noexcept {

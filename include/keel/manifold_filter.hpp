@@ -148,11 +148,22 @@ Status check_manifold_estimate(const ManifoldGaussian<Space>& est) noexcept {
   return Status::ok;
 }
 
-/// P ← G P Gᵀ with the space's reset Jacobian at δ (skipped for flat spaces, where G = I).
+template <typename Space, typename = void>
+struct has_block_reset : std::false_type {};
+template <typename Space>
+struct has_block_reset<Space, std::void_t<decltype(Space::reset_covariance(
+                                  std::declval<Eigen::Matrix<typename Space::Scalar, Space::dof, Space::dof>&>(),
+                                  std::declval<const typename Space::Tangent&>()))>> : std::true_type {};
+
+/// P ← G P Gᵀ with the space's reset Jacobian at δ (skipped for flat spaces, where G = I; block by block for a
+/// Compound).
 template <typename Space>
 void reset_covariance(Eigen::Matrix<typename Space::Scalar, Space::dof, Space::dof>& p,
                       const typename Space::Tangent& delta) noexcept {
-  if constexpr (!Space::flat) {
+  if constexpr (has_block_reset<Space>::value) {
+    Space::reset_covariance(p, delta);
+    symmetrize(p);
+  } else if constexpr (!Space::flat) {
     const auto g = Space::reset_jacobian(delta);
     const Eigen::Matrix<typename Space::Scalar, Space::dof, Space::dof> gp = g * p;
     p.noalias() = gp * g.transpose();
