@@ -60,6 +60,18 @@ int keel_lint_instantiations() {
   count(keel::rts_smooth(filtered, predicted, fs, 2, smoothed));
   using Cv = keel::models::ConstantVelocity<double, 2>;
   count(keel::discretize(Cv::transition(0.1), Cv::noise_continuous(0.1, 1.0), 0.1).status);
+  using Attitude = keel::models::AttitudeBias<double>;
+  keel::ManifoldGaussian<Attitude> att;
+  const keel::models::GyroStrapdown strapdown;
+  const keel::models::ReferenceDirection<double> gravity{Eigen::Vector3d(0, 0, 9.81)};
+  const Eigen::Matrix<double, 6, 6> q6 = 1e-6 * Eigen::Matrix<double, 6, 6>::Identity();
+  const Eigen::Vector3d omega(0.1, 0.0, -0.2);
+  const Eigen::Vector3d accel(0.0, 0.1, 9.8);
+  count(keel::ekf::predict(att, strapdown, q6, omega, 0.005));
+  count(keel::ekf::correct(att, gravity, Eigen::Matrix3d::Identity(), accel).status);
+  count(keel::ukf::predict(att, strapdown, q6, keel::SigmaRule::scaled(1.0, 2.0, 0.0), omega, 0.005));
+  count(keel::ukf::correct(att, gravity, Eigen::Matrix3d::Identity(), accel, keel::SigmaRule::cubature()).status);
+  monitor.add(keel::nees(att, att.mean));
   Eigen::Matrix4d l = Eigen::Matrix4d::Identity();
   count(keel::cholesky_update(l, Eigen::Vector4d::Ones().eval()));
   return failures + static_cast<int>(monitor.verdict());
