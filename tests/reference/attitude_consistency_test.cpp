@@ -22,7 +22,15 @@ using namespace keel_test;
 
 namespace {
 
+// 40 runs take under a second optimized; the sanitizer and coverage builds (clang -O0 under ASan: 228 s measured)
+// run 4, as a memory and undefined-behaviour check of the same code paths, and do not assert the statistics.
+#ifdef KEEL_SANITIZED_BUILD
+constexpr int kRuns = 4;
+constexpr bool kAssertStatistics = false;
+#else
 constexpr int kRuns = 40;
+constexpr bool kAssertStatistics = true;
+#endif
 constexpr int kSteps = 2000;  // 10 s at 200 Hz
 constexpr int kAidEvery = 4;  // accelerometer and magnetometer at 50 Hz
 constexpr double kDt = 0.005;
@@ -206,6 +214,7 @@ TEST_CASE_TEMPLATE("attitude EKF and UKF on SO(3): 40-run average NEES inside th
                               << ", " << hi << "]; " << inside << "/" << kSteps << " steps inside; attitude RMSE "
                               << r.rmse_deg << " deg");
     CHECK(r.failures == 0);
+    if (!kAssertStatistics) continue;
     CHECK(r.nees.back() >= lo);
     CHECK(r.nees.back() <= hi);
     // About 95% of steps expected; steps share runs, so not binomial: at least 85% (as consistency_test.cpp).
@@ -213,6 +222,7 @@ TEST_CASE_TEMPLATE("attitude EKF and UKF on SO(3): 40-run average NEES inside th
     manifold_rmse = std::max(manifold_rmse, r.rmse_deg);
   }
   // The comparison the README quotes: the same data through a UKF that averages quaternions as 4-vectors.
+  if (!kAssertStatistics) return;
   const Result v = run<T>(Filter::vector_ukf);
   MESSAGE("vector-space UKF (quaternion averaged component-wise): attitude RMSE " << v.rmse_deg << " deg, "
                                                                                   << v.failures << " failed calls");
