@@ -31,6 +31,7 @@
 #include "linear.hpp"
 #include "manifold.hpp"
 #include "sigma.hpp"
+#include "ukf.hpp"
 
 namespace keel {
 namespace detail {
@@ -372,24 +373,10 @@ template <typename Space, typename H, typename DR, typename DZ>
     inn.status = ut.status;
     return inn;
   }
-  inn.residual = detail::model_residual(h, zm, ut.gaussian.mean);
-  inn.cov = ut.gaussian.cov + rm;
-  detail::symmetrize(inn.cov);
-  Eigen::Matrix<T, M, M> lz = inn.cov;
-  if (!detail::cholesky_in_place(lz)) {
-    inn.status = detail::all_finite(inn.cov) ? Status::not_positive_definite : Status::non_finite;
-    return inn;
-  }
-  inn.status = detail::nis_and_gate(lz, inn, gate);
+  Eigen::Matrix<T, D, 1> delta;
+  Eigen::Matrix<T, D, D> p;
+  inn = detail::unscented_gain(ut, h, zm, rm, est.cov, gate, delta, p);
   if (inn.status != Status::ok) return inn;
-  Eigen::Matrix<T, D, M> k;
-  detail::right_solve_spd(lz, ut.cross_cov, k);
-  const Eigen::Matrix<T, D, 1> delta = k * inn.residual;
-  Eigen::Matrix<T, D, M> ks;
-  ks.noalias() = k * inn.cov;
-  Eigen::Matrix<T, D, D> p = est.cov;
-  p.noalias() -= ks.lazyProduct(k.transpose());
-  detail::symmetrize(p);
   inn.status = detail::commit_correction(est, delta, p);
   return inn;
 }

@@ -20,6 +20,41 @@
 #include "sqrt.hpp"
 
 namespace keel {
+namespace detail {
+
+/// \brief The middle of every unscented correction: from the transform's ẑ, P_z and cross-covariance P_xz,
+/// \f$ y = z \boxminus \hat z,\ S = P_z + R \f$ (Cholesky), NIS and gate; when that is ok, the step
+/// \f$ \delta = K y \f$ and \f$ P - K S K^T \f$ (symmetrized) with \f$ K = P_{xz} S^{-1} \f$. The caller validates
+/// and commits.
+template <typename T, int N, int M, typename H>
+Innovation<T, M> unscented_gain(const Transformed<T, N, M>& ut, const H& h, const Eigen::Matrix<T, M, 1>& z,
+                                const Eigen::Matrix<T, M, M>& r, const Eigen::Matrix<T, N, N>& p0,
+                                const Gate<T>& gate, Eigen::Matrix<T, N, 1>& delta,
+                                Eigen::Matrix<T, N, N>& p) noexcept {
+  Innovation<T, M> inn;
+  inn.residual = model_residual(h, z, ut.gaussian.mean);
+  inn.cov = ut.gaussian.cov + r;
+  symmetrize(inn.cov);
+  Eigen::Matrix<T, M, M> l = inn.cov;
+  if (!cholesky_in_place(l)) {
+    inn.status = all_finite(inn.cov) ? Status::not_positive_definite : Status::non_finite;
+    return inn;
+  }
+  inn.status = nis_and_gate(l, inn, gate);
+  if (inn.status != Status::ok) return inn;
+  Eigen::Matrix<T, N, M> k;
+  right_solve_spd(l, ut.cross_cov, k);
+  delta.noalias() = k * inn.residual;
+  Eigen::Matrix<T, N, M> ks;
+  ks.noalias() = k * inn.cov;
+  p = p0;
+  p.noalias() -= ks.lazyProduct(k.transpose());
+  symmetrize(p);
+  return inn;
+}
+
+}  // namespace detail
+
 namespace ukf {
 
 /// \brief UKF time update (Julier & Uhlmann, 1997; Wan & van der Merwe, 2000): the unscented transform of the
@@ -105,25 +140,11 @@ template <template <typename, int> class E, typename T, int N, typename H, typen
       inn.status = ut.status;
       return inn;
     }
-    inn.residual = detail::model_residual(h, zm, ut.gaussian.mean);
-    inn.cov = ut.gaussian.cov + rm;
-    detail::symmetrize(inn.cov);
-    Eigen::Matrix<T, M, M> l = inn.cov;
-    if (!detail::cholesky_in_place(l)) {
-      inn.status = detail::all_finite(inn.cov) ? Status::not_positive_definite : Status::non_finite;
-      return inn;
-    }
-    inn.status = detail::nis_and_gate(l, inn, gate);
+    Eigen::Matrix<T, N, 1> x;
+    Eigen::Matrix<T, N, N> p;
+    inn = detail::unscented_gain(ut, h, zm, rm, est.cov, gate, x, p);
     if (inn.status != Status::ok) return inn;
-    Eigen::Matrix<T, N, M> k;
-    detail::right_solve_spd(l, ut.cross_cov, k);
-    Eigen::Matrix<T, N, 1> x = est.mean;
-    x.noalias() += k * inn.residual;
-    Eigen::Matrix<T, N, M> ks;
-    ks.noalias() = k * inn.cov;
-    Eigen::Matrix<T, N, N> p = est.cov;
-    p.noalias() -= ks.lazyProduct(k.transpose());
-    detail::symmetrize(p);
+    x += est.mean;
     if (!detail::all_finite(x) || !detail::all_finite(p)) {
       inn.status = Status::non_finite;
       return inn;
