@@ -94,7 +94,12 @@ void tangent_value_and_jacobian(const F& f, const typename Space::Mean& x,
       const typename Space::Mean xp = Space::boxplus(x, Eigen::Matrix<T, D, 1>::Unit(j) * h);
       const typename Space::Mean xm = Space::boxplus(x, Eigen::Matrix<T, D, 1>::Unit(j) * -h);
       const T step = Space::boxminus(xp, xm)(j);
-      jac.col(j) = (Out::boxminus(g(xp, args...), value) - Out::boxminus(g(xm, args...), value)) / step;
+      if constexpr (is_eigen<typename Out::Mean>::value) {  // a measurement: its own residual (wrapped angles)
+        const typename Out::Mean vp = g(xp, args...), vm = g(xm, args...);
+        jac.col(j) = (model_residual(g, vp, value) - model_residual(g, vm, value)) / step;
+      } else {
+        jac.col(j) = (Out::boxminus(g(xp, args...), value) - Out::boxminus(g(xm, args...), value)) / step;
+      }
     }
   } else if constexpr (has_jacobian_impl<F, typename Space::Mean, void, A...>::value) {
     value = f(x, args...);
