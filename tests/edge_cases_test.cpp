@@ -77,6 +77,8 @@ TEST_CASE("every Status has its own name") {
   CHECK(std::strcmp(keel::to_string(keel::Status::non_finite), "non_finite") == 0);
   CHECK(std::strcmp(keel::to_string(keel::Status::not_positive_definite), "not_positive_definite") == 0);
   CHECK(std::strcmp(keel::to_string(keel::Status::negative_variance), "negative_variance") == 0);
+  CHECK(std::strcmp(keel::to_string(keel::Status::not_on_manifold), "not_on_manifold") == 0);
+  CHECK(std::strcmp(keel::to_string(keel::Status::not_converged), "not_converged") == 0);
   CHECK(std::strcmp(keel::to_string(keel::Status::gated), "gated") == 0);
   CHECK(std::strcmp(keel::to_string(static_cast<keel::Status>(200)), "unknown") == 0);
 }

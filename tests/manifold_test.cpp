@@ -292,3 +292,24 @@ TEST_CASE_TEMPLATE("manifold kernels: bad input returns its status and leaves th
   CHECK(inn.nis > T(16));
   CHECK(same(e, before));
 }
+
+TEST_CASE_TEMPLATE("nees on a manifold: closed form, non-finite input, indefinite covariance", T, float, double) {
+  using Space = keel::models::AttitudeBias<T>;
+  keel::ManifoldGaussian<Space> est;
+  est.mean = typename Space::Mean(keel::So3<T>::exp(Vec3<T>(T(0.4), T(-0.3), T(2.0))), Vec3<T>(T(0.1), T(0), T(0)));
+  est.cov.setZero();
+  est.cov.diagonal() << T(0.01), T(0.04), T(0.09), T(1e-4), T(4e-4), T(9e-4);
+  // Derivation: truth = x̂ ⊞ δ gives e = truth ⊟ x̂ = δ (for |δ_rot| < π), so NEES = Σ δᵢ²/σᵢ² for diagonal P:
+  // with δ = (0.1, −0.2, 0.3, 0.01, 0.02, −0.03) every term is 1 and NEES = 6. Tolerance: the rotation part goes
+  // through Exp and Log (a few ε relative each) and the square: 64ε.
+  Eigen::Matrix<T, 6, 1> d;
+  d << T(0.1), T(-0.2), T(0.3), T(0.01), T(0.02), T(-0.03);
+  const T value = keel::nees(est, Space::boxplus(est.mean, d));
+  CHECK(std::abs(static_cast<double>(value) - 6.0) <= 6.0 * 64 * static_cast<double>(std::numeric_limits<T>::epsilon()));
+  auto bad_truth = est.mean;
+  std::get<1>(bad_truth)(0) = std::numeric_limits<T>::quiet_NaN();
+  CHECK(std::isnan(keel::nees(est, bad_truth)));
+  auto indefinite = est;
+  indefinite.cov(0, 1) = indefinite.cov(1, 0) = T(1);
+  CHECK(std::isinf(keel::nees(indefinite, est.mean)));
+}

@@ -125,8 +125,8 @@ struct So3 {
   template <typename S>
   using rebind = So3<S>;
 
-  /// Below this squared angle the trigonometric ratios are replaced by their series: with θ² < √ε the first
-  /// omitted term (θ⁴/3840 of sin(θ/2)/θ, θ⁶/46080 of cos(θ/2)) is below ε/3840 relative.
+  /// Below this squared angle the trigonometric ratios are replaced by their series to θ⁴: with θ² < √ε the
+  /// first omitted terms (θ⁶/46080 of cos(θ/2), θ⁶/645120 of sin(θ/2)/θ) are below ε^1.5/46080.
   static double series_threshold() noexcept {
     return std::sqrt(static_cast<double>(std::numeric_limits<detail::real_t<T>>::epsilon()));
   }
