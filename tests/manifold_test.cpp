@@ -279,6 +279,25 @@ TEST_CASE_TEMPLATE("manifold kernels: bad input returns its status and leaves th
   bad = est;
   bad.cov(5, 5) = T(-1);
   expect(bad, keel::Status::negative_variance, q, r, z, rule);
+  // A motion model whose value is off the manifold (a quaternion scaled by 2) or not finite: not_on_manifold and
+  // non_finite from both predicts, estimate unchanged.
+  const auto scaled = [](const typename Space::Mean& x, const Vec3<T>&, const T&) {
+    const Eigen::Quaternion<T>& qx = std::get<0>(x);
+    return typename Space::Mean(Eigen::Quaternion<T>(T(2) * qx.w(), T(2) * qx.x(), T(2) * qx.y(), T(2) * qx.z()),
+                                std::get<1>(x));
+  };
+  const auto not_finite = [](const typename Space::Mean& x, const Vec3<T>&, const T&) {
+    return typename Space::Mean(std::get<0>(x), Vec3<T>::Constant(std::numeric_limits<T>::quiet_NaN()));
+  };
+  {
+    auto e = est;
+    const auto before = e;
+    CHECK(keel::ekf::predict(e, keel::numeric_model(scaled), q, omega, T(0.01)) == keel::Status::not_on_manifold);
+    CHECK(keel::ukf::predict(e, scaled, q, rule, omega, T(0.01)) == keel::Status::not_on_manifold);
+    CHECK(keel::ekf::predict(e, keel::numeric_model(not_finite), q, omega, T(0.01)) == keel::Status::non_finite);
+    CHECK(keel::ukf::predict(e, not_finite, q, rule, omega, T(0.01)) == keel::Status::non_finite);
+    CHECK(same(e, before));
+  }
   // The mean iteration capped at one step cannot confirm convergence (the first step is never below tolerance
   // when the sigma points rotate): not_converged, estimate unchanged.
   auto e = est;
