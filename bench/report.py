@@ -2,7 +2,7 @@
 """Runs keel_bench with repetitions and prints the Markdown tables of the README's performance section: median ns
 per kf_step, keel's Joseph step against each baseline (ratios from one run), effective GFLOP/s from the naive flop
 count (bench/problem.hpp) and its share of the GEMM peak measured in the same run; predict and correct alone; the
-factored forms against the Joseph step; the nonlinear steps. Each ratio the performance issue sets a target for is
+factored forms against the Joseph step; the nonlinear steps; the attitude steps on the manifold state. Each ratio the performance issue sets a target for is
 marked ✓ (met) or ✗ (not met).
 Usage: bench/report.py [path/to/keel_bench] [repetitions]"""
 import json
@@ -71,3 +71,10 @@ print("|---|---|---|")
 for fam in ("ekf_step/analytic", "ekf_step/autodiff", "ekf_step/numeric", "ukf_step/scaled", "ukf_step/cubature",
             "ukf_step/sqrt"):
     print(f"| {fam} | {med[f'{fam}/float/5x3']['real_time']:.0f} | {med[f'{fam}/double/5x3']['real_time']:.0f} |")
+print()
+print("| step | float ns | double ns |")
+print("|---|---|---|")
+for name in ("ekf_step/analytic/5x3", "mekf_step/analytic/6x3", "mekf_step/analytic/6x6", "mekf_step/autodiff/6x3",
+             "mekf_step/autodiff/6x6", "ukf_step/scaled/5x3", "ukf_step/manifold/6x3", "ukf_step/manifold/6x6"):
+    fam, size = name.rsplit("/", 1)
+    print(f"| {name} | {med[f'{fam}/float/{size}']['real_time']:.0f} | {med[f'{fam}/double/{size}']['real_time']:.0f} |")
