@@ -363,12 +363,8 @@ template <typename Space, typename H, typename DR, typename DZ>
   const Eigen::Matrix<T, M, M> rm = r;
   const Eigen::Matrix<T, M, 1> zm = z;
   Innovation<T, M> inn;
-  if (!detail::all_finite(rm) || !detail::all_finite(zm)) return inn;
-  if (!detail::diagonal_nonnegative(rm)) {
-    inn.status = Status::negative_variance;
-    return inn;
-  }
-  inn.status = detail::check_manifold_estimate(est);
+  inn.status = detail::check_noise_and_measurement(rm, zm);
+  if (inn.status == Status::ok) inn.status = detail::check_manifold_estimate(est);
   if (inn.status != Status::ok) return inn;
   Gaussian<T, D> tangent;
   tangent.mean.setZero();

@@ -22,6 +22,13 @@
 namespace keel {
 namespace detail {
 
+/// \brief The unscented corrections' input check on R and z: ok, non_finite or negative_variance.
+template <typename T, int M>
+Status check_noise_and_measurement(const Eigen::Matrix<T, M, M>& r, const Eigen::Matrix<T, M, 1>& z) noexcept {
+  if (!all_finite(r) || !all_finite(z)) return Status::non_finite;
+  return diagonal_nonnegative(r) ? Status::ok : Status::negative_variance;
+}
+
 /// \brief The middle of every unscented correction: from the transform's ẑ, P_z and cross-covariance P_xz,
 /// \f$ y = z \boxminus \hat z,\ S = P_z + R \f$ (Cholesky), NIS and gate; when that is ok, the step
 /// \f$ \delta = K y \f$ and \f$ P - K S K^T \f$ (symmetrized) with \f$ K = P_{xz} S^{-1} \f$. The caller validates
@@ -129,11 +136,8 @@ template <template <typename, int> class E, typename T, int N, typename H, typen
   const Eigen::Matrix<T, M, M> rm = r;
   const Eigen::Matrix<T, M, 1> zm = z;
   Innovation<T, M> inn;
-  if (!detail::all_finite(rm) || !detail::all_finite(zm)) return inn;
-  if (!detail::diagonal_nonnegative(rm)) {
-    inn.status = Status::negative_variance;
-    return inn;
-  }
+  inn.status = detail::check_noise_and_measurement(rm, zm);
+  if (inn.status != Status::ok) return inn;
   if constexpr (std::is_same_v<E<T, N>, Gaussian<T, N>>) {
     const auto ut = unscented_transform(h, est, rule);
     if (!ut.ok()) {
@@ -161,7 +165,10 @@ template <template <typename, int> class E, typename T, int N, typename H, typen
     static_assert(std::is_same_v<E<T, N>, SqrtGaussian<T, N>>,
                   "keel::ukf::correct: the estimate must be a Gaussian or a SqrtGaussian");
     const Eigen::Matrix<T, N, N> s = detail::lower_part(est.sqrt_cov);
-    if (!detail::all_finite(est.mean) || !detail::all_finite(s)) return inn;
+    if (!detail::all_finite(est.mean) || !detail::all_finite(s)) {
+      inn.status = Status::non_finite;
+      return inn;
+    }
     Eigen::Matrix<T, M, M> lr = rm;
     if (!detail::psd_factor_in_place(lr)) {
       inn.status = Status::not_positive_definite;
