@@ -187,27 +187,37 @@ struct Kernel {
   }
 
   /// predict + correct with this step's position fix (linear forms) or ranges and altitude (EKF, UKF);
-  /// returns 0 on success, else the first failing Status's value.
+  /// returns 0 on success, else the first failing Status's value. The two kernels are called from separate
+  /// functions, as firmware calls them (the time update at the model's rate, the correction when a measurement
+  /// arrives), so the stack holds one kernel's frame at a time.
   int step(const Meas<T>& fix, const Meas<T>& ranges, const Meas<T>& gyro, const Meas<T>& accel) {
+    const int s = time_update(gyro);
+    return s != 0 ? s : measurement_update(fix, ranges, accel);
+  }
+
+#if defined(__GNUC__) || defined(__clang__)
+#define KEEL_TARGET_NOINLINE __attribute__((noinline))
+#else
+#define KEEL_TARGET_NOINLINE
+#endif
+  KEEL_TARGET_NOINLINE int time_update(const Meas<T>& gyro) {
     keel::Status s = keel::Status::ok;
-    if constexpr (is_attitude<F>) {
-      if constexpr (F == Form::mekf) s = keel::ekf::predict(est, strapdown, q, gyro, kDt<T>);
-      else s = keel::ukf::predict(est, strapdown, q, rule, gyro, kDt<T>);
-      if (s != keel::Status::ok) return static_cast<int>(s);
-      if constexpr (F == Form::mekf) s = keel::ekf::correct(est, gravity, r, accel).status;
-      else s = keel::ukf::correct(est, gravity, r, accel, rule).status;
-    } else if constexpr (F == Form::ekf || F == Form::ukf) {
-      if constexpr (F == Form::ekf) s = keel::ekf::predict(est, motion, q);
-      else s = keel::ukf::predict(est, motion, q, rule);
-      if (s != keel::Status::ok) return static_cast<int>(s);
-      if constexpr (F == Form::ekf) s = keel::ekf::correct(est, sensor, r, ranges).status;
-      else s = keel::ukf::correct(est, sensor, r, ranges, rule).status;
-    } else {
-      s = keel::predict(est, f, q);
-      if (s != keel::Status::ok) return static_cast<int>(s);
-      if constexpr (F == Form::ud) s = keel::correct_sequential(est, h, r_diag, fix).status;
-      else s = keel::correct(est, h, r, fix).status;
-    }
+    if constexpr (F == Form::mekf) s = keel::ekf::predict(est, strapdown, q, gyro, kDt<T>);
+    else if constexpr (F == Form::ukf_manifold) s = keel::ukf::predict(est, strapdown, q, rule, gyro, kDt<T>);
+    else if constexpr (F == Form::ekf) s = keel::ekf::predict(est, motion, q);
+    else if constexpr (F == Form::ukf) s = keel::ukf::predict(est, motion, q, rule);
+    else s = keel::predict(est, f, q);
+    return static_cast<int>(s);
+  }
+
+  KEEL_TARGET_NOINLINE int measurement_update(const Meas<T>& fix, const Meas<T>& ranges, const Meas<T>& accel) {
+    keel::Status s = keel::Status::ok;
+    if constexpr (F == Form::mekf) s = keel::ekf::correct(est, gravity, r, accel).status;
+    else if constexpr (F == Form::ukf_manifold) s = keel::ukf::correct(est, gravity, r, accel, rule).status;
+    else if constexpr (F == Form::ekf) s = keel::ekf::correct(est, sensor, r, ranges).status;
+    else if constexpr (F == Form::ukf) s = keel::ukf::correct(est, sensor, r, ranges, rule).status;
+    else if constexpr (F == Form::ud) s = keel::correct_sequential(est, h, r_diag, fix).status;
+    else s = keel::correct(est, h, r, fix).status;
     return static_cast<int>(s);
   }
 

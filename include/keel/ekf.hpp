@@ -271,9 +271,8 @@ template <typename T, int N, typename H, typename DR, typename DZ>
     xi = next;
     if (static_cast<double>(step) <= control.tolerance * (1.0 + static_cast<double>(xi.norm()))) break;
   }
-  Eigen::Matrix<T, N, N> p = detail::joseph_covariance(est.cov, s, pht, k);
-  detail::symmetrize(p);
-  if (!detail::all_finite(xi) || !detail::all_finite(p)) {
+  Eigen::Matrix<T, N, N> p;
+  if (!detail::joseph_covariance(est.cov, s, pht, k, p) || !detail::all_finite(xi)) {
     inn.status = Status::non_finite;
     return inn;
   }

@@ -20,40 +20,125 @@ namespace keel {
 
 namespace detail {
 
+/// \brief The scalar kernel of joseph_covariance: calls emit(i, j, v) for every entry i ≥ j of the new covariance,
+/// column by column from the last. Column j (rows i ≥ j) needs Uⱼ, Kⱼ and, for each i, Kᵢ and Wᵢ: rows i > j of `u`
+/// already hold W, row j is overwritten with Wⱼ once column j is done. \returns whether every entry is finite.
+template <bool Joseph, typename T, int N, int M, typename Emit>
+[[nodiscard]] KEEL_INLINE bool joseph_lower(const Eigen::Matrix<T, N, N>& p, const Eigen::Matrix<T, M, M>& s,
+                                            Eigen::Matrix<T, N, M>& u, const Eigen::Matrix<T, N, M>& k,
+                                            Emit emit) noexcept {
+  FiniteCheck<T> check;
+  for (int j = N - 1; j >= 0; --j) {
+    T uj[M], kj[M], wj[M];
+    KEEL_UNROLL
+    for (int c = 0; c < M; ++c) {
+      uj[c] = u(j, c);
+      kj[c] = k(j, c);
+    }
+    T v = p(j, j);
+    KEEL_UNROLL
+    for (int c = 0; c < M; ++c) {
+      v -= kj[c] * uj[c];
+      if constexpr (Joseph) {
+        wj[c] = uj[c];
+        KEEL_UNROLL
+        for (int d = 0; d < M; ++d) wj[c] -= kj[d] * s(d, c);
+      }
+    }
+    if constexpr (Joseph) {
+      KEEL_UNROLL
+      for (int c = 0; c < M; ++c) v -= wj[c] * kj[c];
+    }
+    emit(j, j, v);
+    check.add(v);
+    for (int i = j + 1; i < N; ++i) {
+      T e = p(i, j);
+      KEEL_UNROLL
+      for (int c = 0; c < M; ++c) {
+        e -= k(i, c) * uj[c];
+        if constexpr (Joseph) e -= u(i, c) * kj[c];
+      }
+      emit(i, j, e);
+      check.add(e);
+    }
+    if constexpr (Joseph) {
+      KEEL_UNROLL
+      for (int c = 0; c < M; ++c) u(j, c) = wj[c];
+    }
+  }
+  return check.all_finite();
+}
+
 /// \brief Joseph-form covariance after a gain K, expanded into rank-M corrections instead of forming I − KH.
 /// With U = P Hᵀ and S = H P Hᵀ + R,
 /// \f$ (I-KH)P(I-KH)^T + KRK^T = P - KU^T - UK^T + KSK^T = P - KU^T - WK^T,\ W = U - KS \f$,
 /// exactly, for any gain K: so, as in the congruence form, an error δK in the gain changes P⁺ only by
 /// \f$ \delta K\, S\, \delta K^T \f$ (second order). For the optimal gain W is rounding-level and P⁺ is the standard
-/// form plus that correction. Cost 2N²M + NM² multiply-adds (the congruence form costs 4N³ + O(N²M)).
-/// With standard_form_t: P − KUᵀ only. Returned by value into the caller's matrix (no temporary on the stack).
+/// form plus that correction. The right-hand side is symmetric for any K (KUᵀ + UKᵀ − KSKᵀ), so only the lower
+/// triangle is computed and mirrored: N(N+1)M + NM² multiply-adds (the congruence form costs 4N³ + O(N²M)), and
+/// the result is exactly symmetric. With standard_form_t: P − KUᵀ only (symmetric for the optimal gain, U S⁻¹ Uᵀ).
+/// Reads the lower triangle of P; `u` (U on entry) is workspace: the scalar kernels overwrite it with W, row j
+/// once column j is done (columns from the last), so that no third N×M matrix is on the stack.
+/// \returns whether every entry of `out` is finite.
 template <typename Form = joseph_form_t, typename T, int N, int M>
-Eigen::Matrix<T, N, N> joseph_covariance(const Eigen::Matrix<T, N, N>& p, const Eigen::Matrix<T, M, M>& s,
-                                         const Eigen::Matrix<T, N, M>& pht,
-                                         const Eigen::Matrix<T, N, M>& k) noexcept {
-  Eigen::Matrix<T, N, N> c = p;
-  c.noalias() -= k.lazyProduct(pht.transpose());  // rank-M products: the lazy product is faster at every size measured
-  if constexpr (!std::is_same_v<Form, standard_form_t>) {
-    Eigen::Matrix<T, N, M> w = pht;
-    w.noalias() -= k.lazyProduct(s);
-    c.noalias() -= w.lazyProduct(k.transpose());
+[[nodiscard]] KEEL_INLINE bool joseph_covariance(const Eigen::Matrix<T, N, N>& p, const Eigen::Matrix<T, M, M>& s,
+                                                 Eigen::Matrix<T, N, M>& u, const Eigen::Matrix<T, N, M>& k,
+                                                 Eigen::Matrix<T, N, N>& out) noexcept {
+  constexpr bool joseph = !std::is_same_v<Form, standard_form_t>;
+  if constexpr (!scalar_kernels<T, N>()) {
+    // Vectorized: the full rank-M products (the lazy product is faster at every size measured), then averaged.
+    out = p;
+    out.noalias() -= k.lazyProduct(u.transpose());
+    if constexpr (joseph) {
+      Eigen::Matrix<T, N, M> w = u;
+      w.noalias() -= k.lazyProduct(s);
+      out.noalias() -= w.lazyProduct(k.transpose());
+    }
+    return symmetrize_finite(out);
+  } else {
+    return joseph_lower<joseph>(p, s, u, k, [&out](int i, int j, T v) {
+      out(i, j) = v;
+      out(j, i) = v;
+    });
   }
-  return c;
 }
 
 /// \brief Shared tail of the vector corrections: given the gain, form the new mean and covariance,
-/// validate them, and commit to `est` only on success.
+/// validate them, and commit to `est` only on success. `pht` is consumed (joseph_covariance's workspace).
 template <typename T, int N, int M, typename Form>
-Status apply_gain(Gaussian<T, N>& est, const Eigen::Matrix<T, M, M>& s, const Eigen::Matrix<T, M, 1>& y,
-                  const Eigen::Matrix<T, N, M>& pht, const Eigen::Matrix<T, N, M>& k, Form) noexcept {
+KEEL_INLINE Status apply_gain(Gaussian<T, N>& est, const Eigen::Matrix<T, M, M>& s, const Eigen::Matrix<T, M, 1>& y,
+                              Eigen::Matrix<T, N, M>& pht, const Eigen::Matrix<T, N, M>& k, Form) noexcept {
   Eigen::Matrix<T, N, 1> x = est.mean;
   x.noalias() += k * y;
-  Eigen::Matrix<T, N, N> p = joseph_covariance<Form>(est.cov, s, pht, k);
-  if (!symmetrize_finite(p) || !all_finite(x)) return Status::non_finite;
-  if (!diagonal_nonnegative(p)) return Status::not_positive_definite;
-  est.mean = x;
-  est.cov = p;
-  return Status::ok;
+  if constexpr (scalar_kernels<T, N>()) {
+    // The new covariance's lower triangle packed column by column (N(N+1)/2 values on the stack, not N²),
+    // mirrored into the estimate on success.
+    constexpr bool joseph = !std::is_same_v<Form, standard_form_t>;
+    T tri[N * (N + 1) / 2];
+    bool nonnegative = true;
+    const bool finite = joseph_lower<joseph>(est.cov, s, pht, k, [&tri, &nonnegative](int i, int j, T v) {
+      tri[j * N - j * (j - 1) / 2 + (i - j)] = v;
+      if (i == j) nonnegative &= v >= T(0);
+    });
+    if (!finite || !all_finite(x)) return Status::non_finite;
+    if (!nonnegative) return Status::not_positive_definite;
+    est.mean = x;
+    KEEL_UNROLL
+    for (int j = 0, n = 0; j < N; ++j)
+      KEEL_UNROLL
+      for (int i = j; i < N; ++i, ++n) {
+        est.cov(i, j) = tri[n];
+        est.cov(j, i) = tri[n];
+      }
+    return Status::ok;
+  } else {
+    Eigen::Matrix<T, N, N> p;
+    if (!joseph_covariance<Form>(est.cov, s, pht, k, p) || !all_finite(x)) return Status::non_finite;
+    if (!diagonal_nonnegative(p)) return Status::not_positive_definite;
+    est.mean = x;
+    est.cov = p;
+    return Status::ok;
+  }
 }
 
 /// \brief Sets `inn.status` to non_finite and returns true when its residual or covariance overflowed.
@@ -80,7 +165,7 @@ Status nis_and_gate(const Eigen::Matrix<T, M, M>& l, Innovation<T, M>& inn, cons
 /// square-root-free Cholesky factors S = LDLᵀ, the NIS \f$ y^T S^{-1} y = \|D^{-1/2} L^{-1} y\|^2 \f$, and applies
 /// the gate. Status ok means "go on and apply a gain".
 template <typename T, int N, int M>
-Innovation<T, M> innovate_residual(const Gaussian<T, N>& est, const Eigen::Matrix<T, M, N>& h,
+KEEL_INLINE Innovation<T, M> innovate_residual(const Gaussian<T, N>& est, const Eigen::Matrix<T, M, N>& h,
                                    const Eigen::Matrix<T, M, M>& r, const Eigen::Matrix<T, M, 1>& y,
                                    const Gate<T>& gate, Eigen::Matrix<T, N, M>& pht, Ldl<T, M>& l) noexcept {
   Innovation<T, M> inn;
@@ -89,10 +174,23 @@ Innovation<T, M> innovate_residual(const Gaussian<T, N>& est, const Eigen::Matri
     return inn;
   }
   inn.residual = y;
-  product<0>(pht, est.cov, h.transpose());
-  inn.cov = r;
-  inn.cov.noalias() += h.lazyProduct(pht);
-  symmetrize(inn.cov);
+  symmetric_times_transpose(est.cov, h, pht);
+  if constexpr (scalar_kernels<T, N>()) {
+    KEEL_UNROLL
+    for (int b = 0; b < M; ++b)  // the lower triangle of H (P Hᵀ), mirrored
+      KEEL_UNROLL
+      for (int a = b; a < M; ++a) {
+        T v = T(0.5) * r(a, b) + T(0.5) * r(b, a);
+        KEEL_UNROLL
+        for (int c = 0; c < N; ++c) v += h(a, c) * pht(c, b);
+        inn.cov(a, b) = v;
+        inn.cov(b, a) = v;
+      }
+  } else {
+    inn.cov = r;
+    inn.cov.noalias() += h.lazyProduct(pht);
+    symmetrize(inn.cov);
+  }
   // Every entry of x, P, H, R and z reaches y or S (the products sum over all their terms, and 0·NaN, 0·Inf and
   // Inf − Inf are NaN): checking these M + M² values covers all the inputs; the results are checked again.
   if (!all_finite(inn.residual) || !all_finite(inn.cov)) {
@@ -111,7 +209,7 @@ Innovation<T, M> innovate_residual(const Gaussian<T, N>& est, const Eigen::Matri
 
 /// \brief The innovation of a linear correction: y = z − Hx, then innovate_residual.
 template <typename T, int N, int M>
-Innovation<T, M> innovate(const Gaussian<T, N>& est, const Eigen::Matrix<T, M, N>& h,
+KEEL_INLINE Innovation<T, M> innovate(const Gaussian<T, N>& est, const Eigen::Matrix<T, M, N>& h,
                           const Eigen::Matrix<T, M, M>& r, const Eigen::Matrix<T, M, 1>& z, const Gate<T>& gate,
                           Eigen::Matrix<T, N, M>& pht, Ldl<T, M>& l) noexcept {
   Eigen::Matrix<T, M, 1> y = z;
@@ -178,11 +276,8 @@ template <typename T, int N, typename DF, typename DQ>
   // Inf − Inf are NaN), so the finiteness check of the results below covers the inputs.
   Eigen::Matrix<T, N, 1> x;
   x.noalias() = fm * est.mean;
-  Eigen::Matrix<T, N, N> fp;
-  detail::product<0>(fp, fm, est.cov);
-  Eigen::Matrix<T, N, N> p = qm;
-  detail::product<1>(p, fp, fm.transpose());
-  if (!detail::symmetrize_finite(p) || !detail::all_finite(x)) return Status::non_finite;
+  Eigen::Matrix<T, N, N> p;
+  if (!detail::congruence_plus(fm, est.cov, qm, p) || !detail::all_finite(x)) return Status::non_finite;
   if (!detail::diagonal_nonnegative(p)) return Status::not_positive_definite;
   est.mean = x;
   est.cov = p;
@@ -235,11 +330,14 @@ template <typename T, int N, typename DH, typename DR, typename DZ, typename For
   const auto& hm = h.eval();  // a reference when H is already a plain matrix: no copy on the stack
   const auto& rm = r.eval();
   Eigen::Matrix<T, N, M> pht;
-  detail::Ldl<T, M> l;
-  Innovation<T, M> inn = detail::innovate<T, N, M>(est, hm, rm, z.eval(), gate, pht, l);
-  if (inn.status != Status::ok) return inn;
   Eigen::Matrix<T, N, M> k;
-  detail::right_solve_spd(l, pht, k);
+  Innovation<T, M> inn;
+  {  // the factors die here: their stack slot is free for the new covariance
+    detail::Ldl<T, M> l;
+    inn = detail::innovate<T, N, M>(est, hm, rm, z.eval(), gate, pht, l);
+    if (inn.status != Status::ok) return inn;
+    detail::right_solve_spd(l, pht, k);
+  }
   inn.status = detail::apply_gain(est, inn.cov, inn.residual, pht, k, form);
   return inn;
 }

@@ -16,6 +16,23 @@
 
 #include "status.hpp"
 
+/// Forces inlining of the small helpers the kernels are built from (measured: g++ 12 at -O3 kept
+/// innovate_residual, joseph_covariance, ldl_factor and right_solve_spd out of line, and the step then passed every
+/// intermediate matrix through memory).
+#if defined(__GNUC__) || defined(__clang__)
+#define KEEL_INLINE inline __attribute__((always_inline))
+#else
+#define KEEL_INLINE inline
+#endif
+
+/// Unrolls the next loop (up to 16 iterations) in the scalar kernels: with the loop unrolled, its accumulators and
+/// loop-invariant operands live in registers on a scalar FPU.
+#if defined(__GNUC__) || defined(__clang__)
+#define KEEL_UNROLL _Pragma("GCC unroll 16")
+#else
+#define KEEL_UNROLL
+#endif
+
 namespace keel::detail {
 
 /// Compile-time rows and columns as int (Eigen's are distinct enum types; comparing them directly warns).
@@ -69,7 +86,7 @@ class FiniteCheck {
 /// \brief True when every entry of a is finite (FiniteCheck over every entry; this runs on the inputs and results
 /// of every kernel).
 template <typename Derived>
-bool all_finite(const Eigen::MatrixBase<Derived>& a) noexcept {
+KEEL_INLINE bool all_finite(const Eigen::MatrixBase<Derived>& a) noexcept {
   using T = typename Derived::Scalar;
   FiniteCheck<T> check;
   const auto& m = a.derived();
@@ -86,7 +103,7 @@ bool all_finite(const Eigen::MatrixBase<Derived>& a) noexcept {
 /// \brief True when some diagonal entry is a finite negative number (a negative variance). NaN and ±Inf are not
 /// reported here: they are left to the finiteness check of the results they poison, which says non_finite.
 template <typename Derived>
-bool diagonal_has_negative(const Eigen::MatrixBase<Derived>& a) noexcept {
+KEEL_INLINE bool diagonal_has_negative(const Eigen::MatrixBase<Derived>& a) noexcept {
   using T = typename Derived::Scalar;
   bool negative = false;
   for (Eigen::Index i = 0; i < a.rows(); ++i) {
@@ -98,7 +115,7 @@ bool diagonal_has_negative(const Eigen::MatrixBase<Derived>& a) noexcept {
 
 /// \brief True when every diagonal entry is >= 0 (a variance). NaN fails.
 template <typename Derived>
-bool diagonal_nonnegative(const Eigen::MatrixBase<Derived>& a) noexcept {
+KEEL_INLINE bool diagonal_nonnegative(const Eigen::MatrixBase<Derived>& a) noexcept {
   using T = typename Derived::Scalar;
   for (Eigen::Index i = 0; i < a.rows(); ++i)
     if (!(a.coeff(i, i) >= T(0))) return false;
@@ -118,7 +135,7 @@ constexpr bool lazy_product_faster() {
 /// \brief dst = a·b (Op 0) or dst += a·b (Op 1) for an N-row destination, with the product kernel
 /// lazy_product_faster<T, N> picks.
 template <int Op, typename T, int N, int C, typename A, typename B>
-void product(Eigen::Matrix<T, N, C>& dst, const A& a, const B& b) noexcept {
+KEEL_INLINE void product(Eigen::Matrix<T, N, C>& dst, const A& a, const B& b) noexcept {
   if constexpr (lazy_product_faster<T, N>()) {
     if constexpr (Op == 0) dst.noalias() = a.lazyProduct(b);
     else dst.noalias() += a.lazyProduct(b);
@@ -131,7 +148,7 @@ void product(Eigen::Matrix<T, N, C>& dst, const A& a, const B& b) noexcept {
 /// \brief A := (A + Aᵀ)/2 in place, as A/2 + Aᵀ/2: the same bits as halving the sum (halving is exact), but
 /// finite for entries near the largest float (the sum overflowed: a fuzz finding).
 template <typename T, int N>
-void symmetrize(Eigen::Matrix<T, N, N>& a) noexcept {
+KEEL_INLINE void symmetrize(Eigen::Matrix<T, N, N>& a) noexcept {
   for (int j = 0; j < N; ++j)
     for (int i = j + 1; i < N; ++i) {
       const T m = T(0.5) * a(i, j) + T(0.5) * a(j, i);
@@ -143,7 +160,7 @@ void symmetrize(Eigen::Matrix<T, N, N>& a) noexcept {
 /// \brief symmetrize(a), returning whether every entry of the result is finite: one pass instead of two over a
 /// covariance that every kernel symmetrizes and then checks.
 template <typename T, int N>
-[[nodiscard]] bool symmetrize_finite(Eigen::Matrix<T, N, N>& a) noexcept {
+[[nodiscard]] KEEL_INLINE bool symmetrize_finite(Eigen::Matrix<T, N, N>& a) noexcept {
   FiniteCheck<T> check;
   for (int j = 0; j < N; ++j) {
     check.add(a(j, j));
@@ -155,6 +172,108 @@ template <typename T, int N>
     }
   }
   return check.all_finite();
+}
+
+/// \brief True when keel's kernels use their triangle-only scalar loops for N-row products in T, false when Eigen's
+/// vectorized full products: Eigen has no SIMD for T (Cortex-M: the loops keep operands in registers; measured
+/// on the M4F build, fewer instructions and less flash), or the rows fill no packet evenly. Measured with bench/
+/// on an AVX-512 host: the loops win at 9 states in double, lose at 6 and 12.
+template <typename T, int N>
+constexpr bool scalar_kernels() {
+#ifdef KEEL_SCALAR_KERNELS
+  return KEEL_SCALAR_KERNELS != 0;
+#else
+  return !Eigen::internal::packet_traits<T>::Vectorizable || (N <= 12 && !lazy_product_faster<T, N>());
+#endif
+}
+
+/// \brief Columns j … j+B−1 of congruence_plus's scalar kernel (B = 2: each column of P and each row of F loaded
+/// once for two columns of the result).
+template <int B, typename T, int N>
+KEEL_INLINE void congruence_columns(const Eigen::Matrix<T, N, N>& f, const Eigen::Matrix<T, N, N>& p,
+                                    const Eigen::Matrix<T, N, N>& q, Eigen::Matrix<T, N, N>& out, int j,
+                                    FiniteCheck<T>& check) noexcept {
+  T t[B][N];  // t[b] = P fⱼ₊ᵦ
+  KEEL_UNROLL
+  for (int b = 0; b < B; ++b) {
+    KEEL_UNROLL
+    for (int i = 0; i < N; ++i) t[b][i] = p(i, 0) * f(j + b, 0);
+  }
+  for (int k = 1; k < N; ++k) {
+    T fk[B];
+    KEEL_UNROLL
+    for (int b = 0; b < B; ++b) fk[b] = f(j + b, k);
+    KEEL_UNROLL
+    for (int i = 0; i < N; ++i) {
+      const T pik = p(i, k);
+      KEEL_UNROLL
+      for (int b = 0; b < B; ++b) t[b][i] += pik * fk[b];
+    }
+  }
+  for (int i = j; i < N; ++i) {
+    T v[B];
+    KEEL_UNROLL
+    for (int b = 0; b < B; ++b) v[b] = q(i, j + b);
+    KEEL_UNROLL
+    for (int k = 0; k < N; ++k) {
+      const T fik = f(i, k);
+      KEEL_UNROLL
+      for (int b = 0; b < B; ++b) v[b] += fik * t[b][k];
+    }
+    KEEL_UNROLL
+    for (int b = 0; b < B; ++b)
+      if (i >= j + b) {
+        out(i, j + b) = v[b];
+        out(j + b, i) = v[b];
+        check.add(v[b]);
+      }
+  }
+}
+
+/// \brief out = F P Fᵀ + Q for a symmetric P, returning whether every entry is finite. Vectorized: F P (full),
+/// then (F P) Fᵀ + Q and the symmetrizing pass. Scalar: one column at a time, t = P fⱼ (fⱼ the j-th row of F as a
+/// column, t = Σₖ Pₖ Fⱼₖ over the columns Pₖ of P), then out(i, j) = Qᵢⱼ + Fᵢ·t for i ≥ j only (Q's lower triangle),
+/// mirrored: N³ + N²(N+1)/2 multiply-adds instead of 2N³ and one N-vector of workspace instead of an N×N product.
+template <typename T, int N>
+[[nodiscard]] KEEL_INLINE bool congruence_plus(const Eigen::Matrix<T, N, N>& f, const Eigen::Matrix<T, N, N>& p,
+                                               const Eigen::Matrix<T, N, N>& q, Eigen::Matrix<T, N, N>& out) noexcept {
+  if constexpr (!scalar_kernels<T, N>()) {
+    Eigen::Matrix<T, N, N> fp;
+    product<0>(fp, f, p);
+    out = q;
+    product<1>(out, fp, f.transpose());
+    return symmetrize_finite(out);
+  } else {
+    FiniteCheck<T> check;
+    int j = 0;
+    for (; j + 1 < N; j += 2) congruence_columns<2>(f, p, q, out, j, check);
+    if constexpr (N % 2 == 1) congruence_columns<1>(f, p, q, out, j, check);
+    return check.all_finite();
+  }
+}
+
+/// \brief out = P Hᵀ for a symmetric P (N×N) and H (M×N). Scalar kernels: row i of the result is H Pᵢ (Pᵢ the
+/// i-th column of P), H held in registers across the rows.
+template <typename T, int N, int M>
+KEEL_INLINE void symmetric_times_transpose(const Eigen::Matrix<T, N, N>& p, const Eigen::Matrix<T, M, N>& h,
+                                           Eigen::Matrix<T, N, M>& out) noexcept {
+  if constexpr (!scalar_kernels<T, N>()) {
+    product<0>(out, p, h.transpose());
+  } else {
+    for (int i = 0; i < N; ++i) {
+      T acc[M];
+      KEEL_UNROLL
+      for (int c = 0; c < M; ++c) acc[c] = h(c, 0) * p(0, i);
+      KEEL_UNROLL
+      for (int k = 1; k < N; ++k) {
+        const T pki = p(k, i);
+        KEEL_UNROLL
+        for (int c = 0; c < M; ++c) acc[c] += h(c, k) * pki;
+      }
+      KEEL_UNROLL
+      for (int c = 0; c < M; ++c) out(i, c) = acc[c];
+    }
+  }
 }
 
 /// \brief Relative pivot floor of the Cholesky factorization: a pivot \f$ d_j \le n\,\varepsilon\,a_{jj} \f$
@@ -202,7 +321,7 @@ struct Ldl {
 /// critical path of a small update this halves the latency of the factorization.
 /// \returns false when A is not numerically positive-definite; f is then partly written.
 template <typename T, int N>
-bool ldl_factor(const Eigen::Matrix<T, N, N>& a, Ldl<T, N>& f) noexcept {
+KEEL_INLINE bool ldl_factor(const Eigen::Matrix<T, N, N>& a, Ldl<T, N>& f) noexcept {
   for (int j = 0; j < N; ++j) {
     T dj = a(j, j);
     for (int k = 0; k < j; ++k) dj -= f.l(j, k) * f.l(j, k) * f.d(k);
@@ -220,7 +339,7 @@ bool ldl_factor(const Eigen::Matrix<T, N, N>& a, Ldl<T, N>& f) noexcept {
 
 /// \brief \f$ v^T A^{-1} v = \|D^{-1/2} L^{-1} v\|^2 \f$ from the factors (one unit forward substitution).
 template <typename T, int N>
-T ldl_quadratic_form(const Ldl<T, N>& f, Eigen::Matrix<T, N, 1> v) noexcept {
+KEEL_INLINE T ldl_quadratic_form(const Ldl<T, N>& f, Eigen::Matrix<T, N, 1> v) noexcept {
   T q = T(0);
   for (int i = 0; i < N; ++i) {
     T s = v(i);
@@ -234,7 +353,29 @@ T ldl_quadratic_form(const Ldl<T, N>& f, Eigen::Matrix<T, N, 1> v) noexcept {
 /// \brief X = B A⁻¹ from \f$ A = L D L^T \f$: Z Lᵀ = B (forward over columns), Y = Z D⁻¹, X L = Y (backward), each
 /// step a whole R-vector column (vectorizes; no matrix right-hand side reaches Eigen's blocked solver).
 template <typename T, int R, int M>
-void right_solve_spd(const Ldl<T, M>& f, const Eigen::Matrix<T, R, M>& b, Eigen::Matrix<T, R, M>& x) noexcept {
+KEEL_INLINE void right_solve_spd(const Ldl<T, M>& f, const Eigen::Matrix<T, R, M>& b, Eigen::Matrix<T, R, M>& x) noexcept {
+  if constexpr (scalar_kernels<T, R>()) {
+    // Row by row, the same operations in the same order: the factors stay in registers on a scalar FPU.
+    for (int i = 0; i < R; ++i) {
+      T v[M];
+      KEEL_UNROLL
+      for (int j = 0; j < M; ++j) {
+        T s = b(i, j);
+        KEEL_UNROLL
+        for (int k = 0; k < j; ++k) s -= f.l(j, k) * v[k];
+        v[j] = s;
+      }
+      KEEL_UNROLL
+      for (int j = 0; j < M; ++j) v[j] *= f.d_inv(j);
+      KEEL_UNROLL
+      for (int j = M - 1; j >= 0; --j) {
+        KEEL_UNROLL
+        for (int k = j + 1; k < M; ++k) v[j] -= f.l(k, j) * v[k];
+        x(i, j) = v[j];
+      }
+    }
+    return;
+  }
   for (int j = 0; j < M; ++j) {
     Eigen::Matrix<T, R, 1> v = b.col(j);
     for (int k = 0; k < j; ++k) v -= f.l(j, k) * x.col(k);
