@@ -201,11 +201,9 @@ template <template <typename, int> class E, typename T, int N, typename H, typen
   const Eigen::Matrix<T, M, M> rm = r;
   if constexpr (std::is_same_v<E<T, N>, Gaussian<T, N>>) {
     Eigen::Matrix<T, N, M> pht;
-    detail::Ldl<T, M> l;
-    inn = detail::innovate_residual(est, jac, rm, y, gate, pht, l);
-    if (inn.status != Status::ok) return inn;
     Eigen::Matrix<T, N, M> k;
-    detail::right_solve_spd(l, pht, k);
+    inn = detail::innovate_and_gain(est, jac, rm, y, gate, pht, k);
+    if (inn.status != Status::ok) return inn;
     inn.status = detail::apply_gain(est, inn.cov, inn.residual, pht, k, joseph_form);
     return inn;
   } else {

@@ -217,6 +217,19 @@ KEEL_INLINE Innovation<T, M> innovate(const Gaussian<T, N>& est, const Eigen::Ma
   return innovate_residual(est, h, r, y, gate, pht, l);
 }
 
+/// \brief innovate_residual, then on ok the gain K = P Hᵀ S⁻¹ into `k`. The factors of S live only in here, so
+/// that their stack slot is free again for the new covariance in the caller.
+template <typename T, int N, int M>
+KEEL_INLINE Innovation<T, M> innovate_and_gain(const Gaussian<T, N>& est, const Eigen::Matrix<T, M, N>& h,
+                                               const Eigen::Matrix<T, M, M>& r, const Eigen::Matrix<T, M, 1>& y,
+                                               const Gate<T>& gate, Eigen::Matrix<T, N, M>& pht,
+                                               Eigen::Matrix<T, N, M>& k) noexcept {
+  Ldl<T, M> l;
+  Innovation<T, M> inn = innovate_residual(est, h, r, y, gate, pht, l);
+  if (inn.status == Status::ok) right_solve_spd(l, pht, k);
+  return inn;
+}
+
 template <typename T, int N, typename DH, typename DR, typename DZ>
 constexpr void check_correct_dims() {
   static_assert(is_fixed_size<DH>() && is_fixed_size<DR>() && is_fixed_size<DZ>(),
@@ -329,15 +342,12 @@ template <typename T, int N, typename DH, typename DR, typename DZ, typename For
   constexpr int M = detail::rows_v<DZ>;
   const auto& hm = h.eval();  // a reference when H is already a plain matrix: no copy on the stack
   const auto& rm = r.eval();
+  Eigen::Matrix<T, M, 1> y = z;
+  y.noalias() -= hm * est.mean;
   Eigen::Matrix<T, N, M> pht;
   Eigen::Matrix<T, N, M> k;
-  Innovation<T, M> inn;
-  {  // the factors die here: their stack slot is free for the new covariance
-    detail::Ldl<T, M> l;
-    inn = detail::innovate<T, N, M>(est, hm, rm, z.eval(), gate, pht, l);
-    if (inn.status != Status::ok) return inn;
-    detail::right_solve_spd(l, pht, k);
-  }
+  Innovation<T, M> inn = detail::innovate_and_gain<T, N, M>(est, hm, rm, y, gate, pht, k);
+  if (inn.status != Status::ok) return inn;
   inn.status = detail::apply_gain(est, inn.cov, inn.residual, pht, k, form);
   return inn;
 }

@@ -269,11 +269,9 @@ template <typename Space, typename H, typename DR, typename DZ>
   tangent.mean.setZero();
   tangent.cov = est.cov;
   Eigen::Matrix<T, D, M> pht;
-  detail::Ldl<T, M> l;
-  inn = detail::innovate_residual(tangent, jac, Eigen::Matrix<T, M, M>(r), y, gate, pht, l);
-  if (inn.status != Status::ok) return inn;
   Eigen::Matrix<T, D, M> k;
-  detail::right_solve_spd(l, pht, k);
+  inn = detail::innovate_and_gain(tangent, jac, Eigen::Matrix<T, M, M>(r), y, gate, pht, k);
+  if (inn.status != Status::ok) return inn;
   inn.status = detail::apply_gain(tangent, inn.cov, inn.residual, pht, k, joseph_form);
   if (inn.status != Status::ok) return inn;
   inn.status = detail::commit_correction(est, Eigen::Matrix<T, D, 1>(tangent.mean), tangent.cov);
