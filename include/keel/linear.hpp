@@ -123,9 +123,9 @@ KEEL_INLINE Status apply_gain(Gaussian<T, N>& est, const Eigen::Matrix<T, M, M>&
     if (!finite || !all_finite(x)) return Status::non_finite;
     if (!nonnegative) return Status::not_positive_definite;
     est.mean = x;
-    KEEL_UNROLL
+    KEEL_UNROLL_SPEED
     for (int j = 0, n = 0; j < N; ++j)
-      KEEL_UNROLL
+      KEEL_UNROLL_SPEED
       for (int i = j; i < N; ++i, ++n) {
         est.cov(i, j) = tri[n];
         est.cov(j, i) = tri[n];
@@ -176,9 +176,9 @@ KEEL_INLINE Innovation<T, M> innovate_residual(const Gaussian<T, N>& est, const 
   inn.residual = y;
   symmetric_times_transpose(est.cov, h, pht);
   if constexpr (scalar_kernels<T, N>()) {
-    KEEL_UNROLL
+    KEEL_UNROLL_SPEED
     for (int b = 0; b < M; ++b)  // the lower triangle of H (P Hᵀ), mirrored
-      KEEL_UNROLL
+      KEEL_UNROLL_SPEED
       for (int a = b; a < M; ++a) {
         T v = T(0.5) * r(a, b) + T(0.5) * r(b, a);
         KEEL_UNROLL
