@@ -77,8 +77,9 @@ template <bool Joseph, typename T, int N, int M, typename Emit>
 /// form plus that correction. The right-hand side is symmetric for any K (KUᵀ + UKᵀ − KSKᵀ), so only the lower
 /// triangle is computed and mirrored: N(N+1)M + NM² multiply-adds (the congruence form costs 4N³ + O(N²M)), and
 /// the result is exactly symmetric. With standard_form_t: P − KUᵀ only (symmetric for the optimal gain, U S⁻¹ Uᵀ).
-/// Reads the lower triangle of P; `u` (U on entry) is workspace: the scalar kernels overwrite it with W, row j
-/// once column j is done (columns from the last), so that no third N×M matrix is on the stack.
+/// The vectorized path forms the full products and averages the two triangles; the scalar kernels
+/// (detail::scalar_kernels) read the lower triangle of P and overwrite `u` (U on entry) with W, row j once column j
+/// is done (columns from the last), so that no third N×M matrix is on the stack.
 /// \returns whether every entry of `out` is finite.
 template <typename Form = joseph_form_t, typename T, int N, int M>
 [[nodiscard]] KEEL_INLINE bool joseph_covariance(const Eigen::Matrix<T, N, N>& p, const Eigen::Matrix<T, M, M>& s,
@@ -274,7 +275,8 @@ constexpr void check_sequential_dims() {
 }  // namespace detail
 
 /// \brief Time update \f$ x^- = F x,\; P^- = F P F^T + Q \f$ (Kalman, "A New Approach to Linear Filtering
-/// and Prediction Problems", 1960).
+/// and Prediction Problems", 1960). The result is exactly symmetric; Q is taken as symmetric (the vectorized path
+/// averages the two triangles of the sum, the scalar kernels of targets without SIMD read Q's lower triangle).
 /// \returns ok, non_finite (an input or the result is not finite), negative_variance (Q or P has a negative
 /// diagonal entry) or not_positive_definite (P or Q is indefinite and the result has a negative diagonal entry);
 /// on any non-ok status `est` is unchanged.
