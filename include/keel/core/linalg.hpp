@@ -70,24 +70,51 @@ constexpr bool is_finite(T x) noexcept {
   }
 }
 
-/// \brief Accumulates whether every value added is finite, with the exponent-bit test of is_finite but without a
-/// branch per value: a value is non-finite exactly when its exponent bits are all ones, i.e. when its magnitude
-/// bits plus one unit of the exponent's last place carry into the sign bit; the sums are OR-ed and the sign bit
-/// read once. Vectorizes on the host; four instructions per value on a Cortex-M4.
+/// \brief True when the checks take their scalar-FPU forms: Eigen has no SIMD for T (Cortex-M), or
+/// KEEL_SCALAR_KERNELS is set (the host test of the scalar kernels).
+template <typename T>
+constexpr bool scalar_fpu() {
+#ifdef KEEL_SCALAR_KERNELS
+  return KEEL_SCALAR_KERNELS != 0;
+#else
+  return !Eigen::internal::packet_traits<T>::Vectorizable;
+#endif
+}
+
+/// \brief Accumulates whether every value added is finite, without a branch per value, in one of two ways.
+/// The exponent-bit test of is_finite: a value is non-finite exactly when its exponent bits are all ones, i.e. when
+/// its magnitude bits plus one unit of the exponent's last place carry into the sign bit; the sums are OR-ed and the
+/// sign bit read once (vectorizes: an integer OR reduction). On a scalar FPU (Eigen has no SIMD for T: Cortex-M)
+/// with IEEE semantics: acc += v·0, which is ±0 for a finite v and NaN for ±Inf or NaN, and NaN stays NaN — one
+/// multiply-add per value instead of four integer instructions (measured on the Cortex-M4F Joseph step: 3 273 →
+/// 3 026 instructions). Not under -ffinite-math-only / -ffast-math (__FINITE_MATH_ONLY__), where v·0 may be folded
+/// to 0, and not on SIMD hosts, where the floating-point sum is a serial chain the compiler may not reorder.
 template <typename T>
 class FiniteCheck {
+#if defined(__FINITE_MATH_ONLY__) && __FINITE_MATH_ONLY__
+  static constexpr bool multiply_add = false;
+#else
+  static constexpr bool multiply_add = scalar_fpu<T>();
+#endif
   using Bits = std::conditional_t<std::is_same_v<T, float>, std::uint32_t, std::uint64_t>;
   static constexpr Bits sign = Bits(1) << (8 * sizeof(Bits) - 1);
   static constexpr Bits exponent_ulp = std::is_same_v<T, float> ? Bits(0x00800000u) : Bits(0x0010000000000000ull);
-  Bits acc_ = 0;
+  std::conditional_t<multiply_add, T, Bits> acc_ = 0;
 
  public:
   void add(const T& v) noexcept {
-    Bits bits = 0;
-    std::memcpy(&bits, &v, sizeof bits);
-    acc_ |= (bits & ~sign) + exponent_ulp;
+    if constexpr (multiply_add) {
+      acc_ += v * T(0);
+    } else {
+      Bits bits = 0;
+      std::memcpy(&bits, &v, sizeof bits);
+      acc_ |= (bits & ~sign) + exponent_ulp;
+    }
   }
-  [[nodiscard]] bool all_finite() const noexcept { return (acc_ & sign) == 0; }
+  [[nodiscard]] bool all_finite() const noexcept {
+    if constexpr (multiply_add) return is_finite(acc_);
+    else return (acc_ & sign) == 0;
+  }
 };
 
 /// \brief True when every entry of a is finite (FiniteCheck over every entry; this runs on the inputs and results
@@ -113,9 +140,25 @@ template <typename Derived>
 KEEL_INLINE bool diagonal_has_negative(const Eigen::MatrixBase<Derived>& a) noexcept {
   using T = typename Derived::Scalar;
   bool negative = false;
-  for (Eigen::Index i = 0; i < a.rows(); ++i) {
-    const T d = a.coeff(i, i);
-    negative |= d < T(0) && d >= std::numeric_limits<T>::lowest();
+  if constexpr (is_fixed_size<Derived>() && scalar_fpu<T>()) {
+    // Scalar FPU (measured on the Cortex-M4F: fewer instructions and bytes than the compares; on an AVX-512 host
+    // the bit test was slower): the finite negative non-zero values are the bit patterns from sign + 1 to
+    // sign + Inf − 1.
+    using Bits = std::conditional_t<std::is_same_v<T, float>, std::uint32_t, std::uint64_t>;
+    constexpr Bits sign = Bits(1) << (8 * sizeof(Bits) - 1);
+    constexpr Bits inf = std::is_same_v<T, float> ? Bits(0x7f800000u) : Bits(0x7ff0000000000000ull);
+    KEEL_UNROLL_SPEED
+    for (int i = 0; i < rows_v<Derived>; ++i) {
+      Bits bits = 0;
+      const T d = a.coeff(i, i);
+      std::memcpy(&bits, &d, sizeof bits);
+      negative |= Bits(bits - (sign + 1)) < Bits(inf - 1);
+    }
+  } else {
+    for (Eigen::Index i = 0; i < a.rows(); ++i) {
+      const T d = a.coeff(i, i);
+      negative |= d < T(0) && d >= std::numeric_limits<T>::lowest();
+    }
   }
   return negative;
 }
@@ -190,7 +233,7 @@ constexpr bool scalar_kernels() {
 #ifdef KEEL_SCALAR_KERNELS
   return KEEL_SCALAR_KERNELS != 0;
 #else
-  return !Eigen::internal::packet_traits<T>::Vectorizable || (N <= 12 && !lazy_product_faster<T, N>());
+  return scalar_fpu<T>() || (N <= 12 && !lazy_product_faster<T, N>());
 #endif
 }
 
