@@ -50,12 +50,12 @@ def setup_code(tool, elf):
     """Bytes of the scenario's set-up in the image: the kernel object's constructor, init and results functions and
     the model-matrix builders they call. flash minus this is what the step itself pulls in (keel's kernels, the
     Eigen and libm/libgcc code they call)."""
-    total = 0
+    seen = {}  # by address: a constructor's complete and base-object symbols are one function
     for line in run([tool, "-C", "--size-sort", "-S", elf]).stdout.splitlines():
         parts = line.split(maxsplit=3)
         if len(parts) == 4 and parts[2] in "tTwW" and SETUP.search(parts[3]):
-            total += int(parts[1], 16)
-    return total
+            seen[parts[0]] = int(parts[1], 16)
+    return sum(seen.values())
 
 
 def largest_frame(obj):
