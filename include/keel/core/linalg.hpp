@@ -54,20 +54,28 @@ constexpr bool is_fixed_size() {
 }
 
 
+/// \brief The IEEE-754 layout of float and double: the bits as an unsigned integer, the sign bit, the exponent
+/// bits (= +Inf), and the value's bits.
+template <typename T>
+struct FloatBits {
+  static_assert(std::is_same_v<T, float> || std::is_same_v<T, double>, "keel: scalar must be float or double");
+  using Bits = std::conditional_t<std::is_same_v<T, float>, std::uint32_t, std::uint64_t>;
+  static constexpr Bits sign = Bits(1) << (8 * sizeof(Bits) - 1);
+  static constexpr Bits exponent = std::is_same_v<T, float> ? Bits(0x7f800000u) : Bits(0x7ff0000000000000ull);
+  static constexpr Bits exponent_ulp = std::is_same_v<T, float> ? Bits(0x00800000u) : Bits(0x0010000000000000ull);
+  static Bits of(T x) noexcept {
+    Bits bits = 0;
+    std::memcpy(&bits, &x, sizeof bits);
+    return bits;
+  }
+};
+
 /// \brief True when x is neither NaN nor ±Inf. Tests the exponent bits, so it stays correct under
 /// -ffast-math / -ffinite-math-only, where std::isfinite may be folded to `true`.
 template <typename T>
 constexpr bool is_finite(T x) noexcept {
-  static_assert(std::is_same_v<T, float> || std::is_same_v<T, double>, "keel: scalar must be float or double");
-  if constexpr (std::is_same_v<T, float>) {
-    std::uint32_t bits = 0;
-    std::memcpy(&bits, &x, sizeof bits);
-    return (bits & 0x7f800000u) != 0x7f800000u;
-  } else {
-    std::uint64_t bits = 0;
-    std::memcpy(&bits, &x, sizeof bits);
-    return (bits & 0x7ff0000000000000ull) != 0x7ff0000000000000ull;
-  }
+  using F = FloatBits<T>;
+  return (F::of(x) & F::exponent) != F::exponent;
 }
 
 /// \brief True when the checks take their scalar-FPU forms: Eigen has no SIMD for T (Cortex-M), or
@@ -96,24 +104,20 @@ class FiniteCheck {
 #else
   static constexpr bool multiply_add = scalar_fpu<T>();
 #endif
-  using Bits = std::conditional_t<std::is_same_v<T, float>, std::uint32_t, std::uint64_t>;
-  static constexpr Bits sign = Bits(1) << (8 * sizeof(Bits) - 1);
-  static constexpr Bits exponent_ulp = std::is_same_v<T, float> ? Bits(0x00800000u) : Bits(0x0010000000000000ull);
-  std::conditional_t<multiply_add, T, Bits> acc_ = 0;
+  using F = FloatBits<T>;
+  std::conditional_t<multiply_add, T, typename F::Bits> acc_ = 0;
 
  public:
   void add(const T& v) noexcept {
     if constexpr (multiply_add) {
       acc_ += v * T(0);
     } else {
-      Bits bits = 0;
-      std::memcpy(&bits, &v, sizeof bits);
-      acc_ |= (bits & ~sign) + exponent_ulp;
+      acc_ |= (F::of(v) & ~F::sign) + F::exponent_ulp;
     }
   }
   [[nodiscard]] bool all_finite() const noexcept {
     if constexpr (multiply_add) return is_finite(acc_);
-    else return (acc_ & sign) == 0;
+    else return (acc_ & F::sign) == 0;
   }
 };
 
@@ -144,16 +148,11 @@ KEEL_INLINE bool diagonal_has_negative(const Eigen::MatrixBase<Derived>& a) noex
     // Scalar FPU (measured on the Cortex-M4F: fewer instructions and bytes than the compares; on an AVX-512 host
     // the bit test was slower): the finite negative non-zero values are the bit patterns from sign + 1 to
     // sign + Inf − 1.
-    using Bits = std::conditional_t<std::is_same_v<T, float>, std::uint32_t, std::uint64_t>;
-    constexpr Bits sign = Bits(1) << (8 * sizeof(Bits) - 1);
-    constexpr Bits inf = std::is_same_v<T, float> ? Bits(0x7f800000u) : Bits(0x7ff0000000000000ull);
+    using F = FloatBits<T>;
+    using Bits = typename F::Bits;
     KEEL_UNROLL_SPEED
-    for (int i = 0; i < rows_v<Derived>; ++i) {
-      Bits bits = 0;
-      const T d = a.coeff(i, i);
-      std::memcpy(&bits, &d, sizeof bits);
-      negative |= Bits(bits - (sign + 1)) < Bits(inf - 1);
-    }
+    for (int i = 0; i < rows_v<Derived>; ++i)
+      negative |= Bits(F::of(a.coeff(i, i)) - (F::sign + 1)) < Bits(F::exponent - 1);
   } else {
     for (Eigen::Index i = 0; i < a.rows(); ++i) {
       const T d = a.coeff(i, i);
