@@ -73,7 +73,7 @@ struct FloatBits {
 /// \brief True when x is neither NaN nor ±Inf. Tests the exponent bits, so it stays correct under
 /// -ffast-math / -ffinite-math-only, where std::isfinite may be folded to `true`.
 template <typename T>
-constexpr bool is_finite(T x) noexcept {
+bool is_finite(T x) noexcept {
   using F = FloatBits<T>;
   return (F::of(x) & F::exponent) != F::exponent;
 }
