@@ -21,11 +21,6 @@ Eigen::Matrix<T, N, N> lower_part(const Eigen::Matrix<T, N, N>& s) noexcept {
   return l;
 }
 
-/// \brief Zero-pivot test shared by the semi-definite factorizations. A pivot \f$ d_j \le n\varepsilon a_{jj} \f$
-/// is numerically zero; the matrix is still semi-definite only if the rest of that Schur-complement column is
-/// zero too, to the same scale: \f$ s_{ij}^2 \le n\varepsilon\, a_{jj} a_{ii} \f$ (the 2×2 minor
-/// \f$ [d_j, s_{ij}; s_{ij}, a_{ii}] \f$ must not be indefinite beyond rounding). A pivot below
-/// \f$ -n\varepsilon a_{jj} \f$ means the matrix is indefinite.
 /// \brief Floor on a *squared* pivot that a factored form computed without squaring (a diagonal of S_e, or a
 /// sum of non-negative terms as in Bierman's update): the factor carries the standard deviation, accurate to
 /// rounding relative to the square root of the scale, so the test is \f$ \sigma > n\varepsilon\sqrt{s} \f$,
@@ -36,6 +31,11 @@ constexpr T factored_floor_factor() noexcept {
   return pivot_floor_factor<T, N>() * pivot_floor_factor<T, N>();
 }
 
+/// \brief Zero-pivot test shared by the semi-definite factorizations. A pivot \f$ d_j \le n\varepsilon a_{jj} \f$
+/// is numerically zero; the matrix is still semi-definite only if the rest of that Schur-complement column is
+/// zero too, to the same scale: \f$ s_{ij}^2 \le n\varepsilon\, a_{jj} a_{ii} \f$ (the 2×2 minor
+/// \f$ [d_j, s_{ij}; s_{ij}, a_{ii}] \f$ must not be indefinite beyond rounding). A pivot below
+/// \f$ -n\varepsilon a_{jj} \f$ means the matrix is indefinite.
 enum class Pivot { positive, zero, indefinite };
 
 template <typename T, int N>
@@ -85,8 +85,7 @@ bool psd_cholesky_in_place(Eigen::Matrix<T, N, N>& a) noexcept {
   return true;
 }
 
-/// \brief psd_cholesky_in_place with a shortcut for the common diagonal case (process noise is very often
-/// diagonal): the factor of a diagonal matrix is the square root of its diagonal, no elimination needed.
+/// True when every off-diagonal entry of a is exactly zero.
 template <typename T, int N>
 bool is_diagonal(const Eigen::Matrix<T, N, N>& a) noexcept {
   for (int j = 0; j < N; ++j)
@@ -95,6 +94,8 @@ bool is_diagonal(const Eigen::Matrix<T, N, N>& a) noexcept {
   return true;
 }
 
+/// \brief psd_cholesky_in_place with a shortcut for the common diagonal case (process noise is very often
+/// diagonal): the factor of a diagonal matrix is the square root of its diagonal, no elimination needed.
 template <typename T, int N>
 bool psd_factor_in_place(Eigen::Matrix<T, N, N>& a) noexcept {
   if (!is_diagonal(a)) return psd_cholesky_in_place(a);
@@ -169,26 +170,24 @@ Eigen::Matrix<T, N, N> gram_schmidt_lower(Eigen::Matrix<T, R, N>& wt) noexcept {
 /// re-triangularization is LINPACK's Cholesky downdate (Dongarra, Bunch, Moler & Stewart, "LINPACK Users' Guide",
 /// 1979, ch. 10, routine xCHDD) with its two sensitive quantities known here exactly, without cancellation: the
 /// solution of S p = b/√s is p = φ/√s, and \f$ \alpha = \sqrt{1 - \|p\|^2} = \sqrt{r/s} \f$. Rotations
-/// taking (α, p_i) to (‖·‖, 0) for i = N−1..0 are computed first (a short scalar chain), then applied to the
-/// columns of S, each a contiguous vector operation: O(N²), N square roots. r = 0 is allowed (S' singular).
+/// taking (α, p_i) to (‖·‖, 0) for i = N−1..0 are computed first, then applied to the columns of S, each a
+/// contiguous vector operation: O(N²), N square roots. The rotated lengths are
+/// \f$ \alpha_i = \sqrt{r/s + \sum_{l \ge i} p_l^2} \f$ (each rotation adds p_i² to the squared length): formed from
+/// that suffix sum, the N square roots and 2N divisions are independent of each other and vectorize, where the
+/// chain \f$ \alpha_i = \sqrt{\alpha_{i+1}^2 + p_i^2} \f$ waits on one square root and two divisions per
+/// element. r = 0 is allowed (S' singular).
 template <typename T, int N>
 void potter_triangular(Eigen::Matrix<T, N, N>& l, const Eigen::Matrix<T, N, 1>& phi, T s, T r) noexcept {
-  const T inv_root_s = T(1) / std::sqrt(s);
-  T alpha = std::sqrt(r / s);
-  Eigen::Matrix<T, N, 1> c;
-  Eigen::Matrix<T, N, 1> sn;
-  for (int i = N - 1; i >= 0; --i) {
-    const T pi = phi(i) * inv_root_s;
-    const T norm = std::sqrt(alpha * alpha + pi * pi);  // ≤ 1: α² + ‖p‖² = 1, no overflow
-    if (norm > T(0)) {
-      c(i) = alpha / norm;
-      sn(i) = pi / norm;
-    } else {
-      c(i) = T(1);
-      sn(i) = T(0);
-    }
-    alpha = norm;
-  }
+  const Eigen::Matrix<T, N, 1> p = phi * (T(1) / std::sqrt(s));
+  Eigen::Matrix<T, N + 1, 1> alpha;  // α_i² first (|p_i| ≤ 1 and r/s ≤ 1: no overflow), then α_i
+  alpha(N) = r / s;
+  for (int i = N - 1; i >= 0; --i) alpha(i) = alpha(i + 1) + p(i) * p(i);
+  alpha = alpha.cwiseSqrt();
+  const auto positive = alpha.template head<N>().array() > T(0);
+  const Eigen::Matrix<T, N, 1> inv = positive.select(alpha.template head<N>().cwiseInverse(), T(0));
+  // α_i = 0 only when r = 0 and p_l = 0 for all l ≥ i: the identity rotation.
+  const Eigen::Matrix<T, N, 1> c = positive.select(alpha.template tail<N>().cwiseProduct(inv), T(1));
+  const Eigen::Matrix<T, N, 1> sn = p.cwiseProduct(inv);
   Eigen::Matrix<T, N, 1> acc = Eigen::Matrix<T, N, 1>::Zero();
   for (int i = N - 1; i >= 0; --i) {
     const int len = N - i;
