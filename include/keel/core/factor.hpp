@@ -173,7 +173,7 @@ Eigen::Matrix<T, N, N> gram_schmidt_lower(Eigen::Matrix<T, R, N>& wt) noexcept {
 /// taking (α, p_i) to (‖·‖, 0) for i = N−1..0 are computed first, then applied to the columns of S, each a
 /// contiguous vector operation: O(N²), N square roots. The rotated lengths are
 /// \f$ \alpha_i = \sqrt{r/s + \sum_{l \ge i} p_l^2} \f$ (each rotation adds p_i² to the squared length): formed from
-/// that suffix sum, the N square roots and 2N divisions are independent of each other and vectorize, where the
+/// that suffix sum (additions only), the square roots and the N reciprocals are independent and vectorize, where the
 /// chain \f$ \alpha_i = \sqrt{\alpha_{i+1}^2 + p_i^2} \f$ waits on one square root and two divisions per
 /// element. r = 0 is allowed (S' singular).
 template <typename T, int N>
