@@ -8,8 +8,8 @@ For every image listed in images.txt (written by bench/target/CMakeLists.txt):
   (host_reference) to |a - b| <= tol * (1 + |b|): tol 2e-4 for float, 1e-9 for double (the target contracts
   multiply-adds and its libm differs from the host's; the differences seen are reported);
 - flash is text + data of the image minus that of the empty-kernel image at the same optimization level; kernel code
-  is that minus the scenario's set-up functions (constructor, init, results, model-matrix builders): keel's kernels
-  and the Eigen, libm and libgcc code the step pulls in; RAM is
+  is the code reachable from the step's entry point (keel's kernels and the Eigen, libm and libgcc code the step
+  pulls in) that the empty image does not also have; RAM is
   data + bss likewise; the largest frame is the largest -fstack-usage entry of the kernel's object; the stack
   is the depth the kernel's calls used, measured by painting; the instruction count per step is the harness's
   SysTick reading under -icount shift=0 (40 instructions per tick), the empty loop subtracted.
@@ -42,20 +42,44 @@ def sizes(tool, elf):
     return text + sec.get(".data", 0), sec.get(".data", 0) + sec.get(".bss", 0)
 
 
-SETUP = re.compile(r"::Kernel\(\)|::init\(\)|::results\(|^keel_target_(init|results)$|^_GLOBAL__sub_I|"
-                   r"keel::models::Kinematic<")
+BRANCH = re.compile(r"\s(?:bl|blx|b|b\.w|b\.n|beq\.w|bne\.w|cbz|cbnz)\s.*<([^>+]+)(?:\+0x[0-9a-f]+)?>")
 
 
-def setup_code(tool, elf):
-    """Bytes of the scenario's set-up in the image: the kernel object's constructor, init and results functions and
-    the model-matrix builders they call. flash minus this is what the step itself pulls in (keel's kernels, the
-    Eigen and libm/libgcc code they call)."""
-    seen = {}  # by address: a constructor's complete and base-object symbols are one function
-    for line in run([tool, "-C", "--size-sort", "-S", elf]).stdout.splitlines():
-        parts = line.split(maxsplit=3)
-        if len(parts) == 4 and parts[2] in "tTwW" and SETUP.search(parts[3]):
-            seen[parts[0]] = int(parts[1], 16)
-    return sum(seen.values())
+def functions(tool, elf):
+    """{name: (size, {names it branches to})} of the functions in an image, from objdump's disassembly and nm's
+    sizes (mangled names)."""
+    size = {}
+    for line in run([tool + "nm", "-S", elf]).stdout.splitlines():
+        parts = line.split()
+        if len(parts) == 4 and parts[2] in "tTwW":
+            size[parts[3]] = int(parts[1], 16)
+    calls, cur = {}, None
+    for line in run([tool + "objdump", "-d", "--no-show-raw-insn", elf]).stdout.splitlines():
+        m = re.match(r"^[0-9a-f]+ <([^>]+)>:$", line)
+        if m:
+            cur = m.group(1)
+            calls.setdefault(cur, set())
+            continue
+        m = BRANCH.search(line)
+        if cur and m and m.group(1) != cur:
+            calls[cur].add(m.group(1))
+    return {name: (size.get(name, 0), calls.get(name, set())) for name in set(size) | set(calls)}
+
+
+def step_code(tool, elf, empty_elf):
+    """Bytes of code the step pulls in: every function reachable by calls and branches from keel_target_step,
+    except those the empty-kernel image also has (the harness's own C library code, e.g. memcpy). The scenario's
+    set-up (the kernel object's constructor, init, results) and the Eigen copies only it calls are not counted."""
+    fns = functions(tool, elf)
+    shared = {n for n in functions(tool, empty_elf) if not n.startswith("keel_target_")}
+    seen, todo = set(), ["keel_target_step"]
+    while todo:
+        name = todo.pop()
+        if name in seen or name not in fns:
+            continue
+        seen.add(name)
+        todo.extend(fns[name][1])
+    return sum(fns[n][0] for n in seen - shared)
 
 
 def largest_frame(obj):
@@ -87,6 +111,7 @@ def main():
 
     images = [line.split() for line in pathlib.Path(a.images).read_text().splitlines() if line.strip()]
     empty = {opt: sizes(a.prefix + "size", elf) for form, opt, elf, _ in images if form == "none"}
+    empty_elf = {opt: elf for form, opt, elf, _ in images if form == "none"}
     failures, rows = [], []
     for form, opt, elf, obj in images:
         if form == "none":
@@ -115,7 +140,7 @@ def main():
             failures.append(f"{name}: results differ from the host's by {worst:.3g} (tolerance {tol:g})")
         flash, ram = sizes(a.prefix + "size", elf)
         flash -= empty[opt][0]
-        rows.append((form, opt, flash, flash - setup_code(a.prefix + "nm", elf), ram - empty[opt][1],
+        rows.append((form, opt, flash, step_code(a.prefix, elf, empty_elf[opt]), ram - empty[opt][1],
                      largest_frame(obj), int(fields["stack"]), int(fields["per_step"]), worst))
 
     lines = ["| kernel (6 states, 3 measurements) | target | opt | flash B | kernel code B | RAM B | largest frame B "

@@ -170,27 +170,13 @@ KEEL_INLINE Innovation<T, M> innovate_residual(const Gaussian<T, N>& est, const 
                                    const Eigen::Matrix<T, M, M>& r, const Eigen::Matrix<T, M, 1>& y,
                                    const Gate<T>& gate, Eigen::Matrix<T, N, M>& pht, Ldl<T, M>& l) noexcept {
   Innovation<T, M> inn;
+  inn.residual = y;
+  innovation_products(est.cov, h, r, pht, inn.cov);
+  // Checked after S is formed, not before: the compiler then sees the zero-initialized residual and covariance
+  // overwritten and drops the zeroing (measured on the Cortex-M4F Joseph step: a memset call, 37 instructions).
   if (diagonal_has_negative(est.cov) || diagonal_has_negative(r)) {
     inn.status = Status::negative_variance;
     return inn;
-  }
-  inn.residual = y;
-  symmetric_times_transpose(est.cov, h, pht);
-  if constexpr (scalar_kernels<T, N>()) {
-    KEEL_UNROLL_SPEED
-    for (int b = 0; b < M; ++b)  // the lower triangle of H (P Hᵀ), mirrored
-      KEEL_UNROLL_SPEED
-      for (int a = b; a < M; ++a) {
-        T v = T(0.5) * r(a, b) + T(0.5) * r(b, a);
-        KEEL_UNROLL
-        for (int c = 0; c < N; ++c) v += h(a, c) * pht(c, b);
-        inn.cov(a, b) = v;
-        inn.cov(b, a) = v;
-      }
-  } else {
-    inn.cov = r;
-    inn.cov.noalias() += h.lazyProduct(pht);
-    symmetrize(inn.cov);
   }
   // Every entry of x, P, H, R and z reaches y or S (the products sum over all their terms, and 0·NaN, 0·Inf and
   // Inf − Inf are NaN): checking these M + M² values covers all the inputs; the results are checked again.
@@ -295,7 +281,7 @@ template <typename T, int N, typename DF, typename DQ>
   if (!detail::congruence_plus(fm, est.cov, qm, p) || !detail::all_finite(x)) return Status::non_finite;
   if (!detail::diagonal_nonnegative(p)) return Status::not_positive_definite;
   est.mean = x;
-  est.cov = p;
+  detail::copy_matrix(est.cov, p);
   return Status::ok;
 }
 

@@ -223,6 +223,15 @@ template <typename T, int N>
   return check.all_finite();
 }
 
+/// \brief dst = src for two plain matrices of one fixed-size type. On a scalar FPU (Cortex-M) through memcpy: Eigen's
+/// completely unrolled copy of a 6×6 float matrix took 300 B of flash in the M4F Joseph image, the C library's
+/// memcpy (already linked) copies it in fewer instructions; elsewhere Eigen's vectorized assignment.
+template <typename T, int R, int C>
+KEEL_INLINE void copy_matrix(Eigen::Matrix<T, R, C>& dst, const Eigen::Matrix<T, R, C>& src) noexcept {
+  if constexpr (scalar_fpu<T>()) std::memcpy(dst.data(), src.data(), sizeof(T) * R * C);
+  else dst = src;
+}
+
 /// \brief True when keel's kernels use their triangle-only scalar loops for N-row products in T, false when Eigen's
 /// vectorized full products: Eigen has no SIMD for T (Cortex-M: the loops keep operands in registers; measured
 /// on the M4F build, fewer instructions and less flash), or the rows fill no packet evenly. Measured with bench/
@@ -303,14 +312,27 @@ template <typename T, int N>
   }
 }
 
-/// \brief out = P Hᵀ for a symmetric P (N×N) and H (M×N). Scalar kernels: row i of the result is H Pᵢ (Pᵢ the
-/// i-th column of P), H held in registers across the rows.
+/// \brief U = P Hᵀ for a symmetric P (N×N) and H (M×N), and the innovation covariance S = H U + R, exactly symmetric
+/// (R taken as symmetric: (Rᵢⱼ + Rⱼᵢ)/2). Vectorized: the two products, then the symmetrizing pass. Scalar kernels:
+/// row i of U is H Pᵢ (Pᵢ the i-th column of P), H held in registers across the rows, and each row's contribution
+/// Hᵢ Uᵢᵀ (Hᵢ the i-th column of H) is added to the lower triangle of S as the row is formed — the same sums in the
+/// same order as S = R + H U entry by entry, in one loop instead of a second unrolled pass over U (measured on the
+/// Cortex-M4F Joseph step: 3 256 → 2 992 bytes of code, 2 935 → 2 845 instructions).
 template <typename T, int N, int M>
-KEEL_INLINE void symmetric_times_transpose(const Eigen::Matrix<T, N, N>& p, const Eigen::Matrix<T, M, N>& h,
-                                           Eigen::Matrix<T, N, M>& out) noexcept {
+KEEL_INLINE void innovation_products(const Eigen::Matrix<T, N, N>& p, const Eigen::Matrix<T, M, N>& h,
+                                     const Eigen::Matrix<T, M, M>& r, Eigen::Matrix<T, N, M>& u,
+                                     Eigen::Matrix<T, M, M>& s) noexcept {
   if constexpr (!scalar_kernels<T, N>()) {
-    product<0>(out, p, h.transpose());
+    product<0>(u, p, h.transpose());
+    s = r;
+    s.noalias() += h.lazyProduct(u);
+    symmetrize(s);
   } else {
+    T tri[M * (M + 1) / 2];  // S's lower triangle, column by column
+    KEEL_UNROLL
+    for (int b = 0, n = 0; b < M; ++b)
+      KEEL_UNROLL
+      for (int a = b; a < M; ++a, ++n) tri[n] = T(0.5) * r(a, b) + T(0.5) * r(b, a);
     for (int i = 0; i < N; ++i) {
       T acc[M];
       KEEL_UNROLL
@@ -322,8 +344,19 @@ KEEL_INLINE void symmetric_times_transpose(const Eigen::Matrix<T, N, N>& p, cons
         for (int c = 0; c < M; ++c) acc[c] += h(c, k) * pki;
       }
       KEEL_UNROLL
-      for (int c = 0; c < M; ++c) out(i, c) = acc[c];
+      for (int c = 0; c < M; ++c) u(i, c) = acc[c];
+      KEEL_UNROLL
+      for (int b = 0, n = 0; b < M; ++b)
+        KEEL_UNROLL
+        for (int a = b; a < M; ++a, ++n) tri[n] += h(a, i) * acc[b];
     }
+    KEEL_UNROLL
+    for (int b = 0, n = 0; b < M; ++b)
+      KEEL_UNROLL
+      for (int a = b; a < M; ++a, ++n) {
+        s(a, b) = tri[n];
+        s(b, a) = tri[n];
+      }
   }
 }
 
