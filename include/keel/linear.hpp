@@ -173,7 +173,8 @@ KEEL_INLINE Innovation<T, M> innovate_residual(const Gaussian<T, N>& est, const 
   inn.residual = y;
   innovation_products(est.cov, h, r, pht, inn.cov);
   // Checked after S is formed, not before: the compiler then sees the zero-initialized residual and covariance
-  // overwritten and drops the zeroing (measured on the Cortex-M4F Joseph step: a memset call, 37 instructions).
+  // overwritten and drops the zeroing, a memset call (measured on the Cortex-M4F Joseph step: 134 fewer instructions,
+  // 104 fewer bytes).
   if (diagonal_has_negative(est.cov) || diagonal_has_negative(r)) {
     inn.status = Status::negative_variance;
     return inn;
